@@ -1,0 +1,58 @@
+#!/usr/bin/env bash
+# The whole test suite, from a fresh Debian/Ubuntu machine.
+#
+# Installs what the tests need (system packages, a Python venv with the
+# reference libraries in tests/reference/requirements.txt), then runs every
+# Rust test with the reference comparisons switched to "must run". Caches live
+# outside the clone, in $AMBIT_CACHE (default ~/.cache/ambit), so a second run
+# only rebuilds what changed.
+set -euo pipefail
+
+root=$(cd "$(dirname "${BASH_SOURCE[0]}")/.." && pwd)
+cache=${AMBIT_CACHE:-$HOME/.cache/ambit}
+mkdir -p "$cache"
+cd "$root"
+
+say() { printf '\n== %s\n' "$*"; }
+
+# --- system packages -------------------------------------------------------
+apt_packages=(python3 python3-venv pkg-config)
+missing=()
+for package in "${apt_packages[@]}"; do
+  dpkg -s "$package" >/dev/null 2>&1 || missing+=("$package")
+done
+if ((${#missing[@]})); then
+  say "installing system packages: ${missing[*]}"
+  sudo_cmd=()
+  [ "$(id -u)" -eq 0 ] || sudo_cmd=(sudo)
+  "${sudo_cmd[@]}" apt-get update -qq
+  DEBIAN_FRONTEND=noninteractive "${sudo_cmd[@]}" apt-get install -y -qq --no-install-recommends "${missing[@]}"
+fi
+
+# --- Python reference libraries --------------------------------------------
+requirements=tests/reference/requirements.txt
+stamp=$(sha256sum "$requirements" | cut -c1-12)
+venv="$cache/venv-$stamp"
+python=${PYTHON:-python3}
+if [ ! -x "$venv/bin/python" ] || [ ! -f "$venv/.complete" ]; then
+  say "creating the reference venv in $venv"
+  rm -rf "$venv"
+  "$python" -m venv "$venv"
+  "$venv/bin/pip" install -q --upgrade pip
+  "$venv/bin/pip" install -q -r "$requirements"
+  touch "$venv/.complete"
+fi
+export AMBIT_PYTHON="$venv/bin/python"
+# Reference comparisons fail, rather than skip, when the references are missing.
+export AMBIT_REQUIRE_REFERENCES=1
+# music21 writes its settings under the home directory; keep it quiet.
+export MPLBACKEND=Agg
+
+# --- Rust ------------------------------------------------------------------
+export CARGO_TARGET_DIR=${CARGO_TARGET_DIR:-$cache/target}
+say "cargo fmt --check"
+cargo fmt --all --check
+say "cargo clippy"
+cargo clippy --workspace --all-targets --locked -- -D warnings
+say "cargo test"
+cargo test --workspace --locked

@@ -1,0 +1,30 @@
+//! Command-line interface: one file per subcommand. Each subcommand parses
+//! its arguments, calls the engine and formats text or JSON.
+
+mod parts;
+mod track;
+
+use clap::{Parser, Subcommand};
+
+/// Ambit: plan a choir from auditions and scores.
+#[derive(Debug, Parser)]
+#[command(name = "ambit", version, about, long_about = None)]
+pub struct Cli {
+    #[command(subcommand)]
+    pub command: Command,
+}
+
+#[derive(Debug, Subcommand)]
+pub enum Command {
+    /// Range, tessitura, hot spots and cycle dose of every part of a score.
+    Parts(parts::PartsArgs),
+    /// Pitch track (f0 per frame) of a recording.
+    Track(track::TrackArgs),
+}
+
+pub fn run(cli: Cli) -> anyhow::Result<()> {
+    match cli.command {
+        Command::Parts(arguments) => parts::run(arguments),
+        Command::Track(arguments) => track::run(arguments),
+    }
+}

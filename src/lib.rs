@@ -1,0 +1,18 @@
+//! Ambit: the engine behind a planner for choir directors and voice teachers.
+//!
+//! Data flows one way through one module per stage:
+//!
+//! ```text
+//! audio ─► track ─► voice                  (auditions → singer profiles)
+//! score ─► tessitura                       (pieces → per-part statistics)
+//! roster/voice + tessitura ─► fit ─► placement
+//! ```
+//!
+//! Each stage takes plain data in and gives plain data out; none knows about
+//! the stages after it. See `docs/ARCHITECTURE.md` for the map.
+
+pub mod audio;
+pub mod pitch;
+pub mod score;
+pub mod tessitura;
+pub mod track;

@@ -1,0 +1,1 @@
+//! Tessitura: where a part sits over the time actually sung.

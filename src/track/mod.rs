@@ -1,0 +1,1 @@
+//! Pitch tracking: f0 per frame from mono samples (YIN and pYIN).

@@ -1,0 +1,88 @@
+//! Helpers shared by the integration tests.
+//!
+//! Reference comparisons run Python scripts from `tests/reference/` with the
+//! interpreter of the reference venv that `scripts/test-all.sh` builds. Under
+//! that script or CI a missing reference is a failure; under a plain
+//! `cargo test` the comparison is skipped with a printed notice.
+#![allow(dead_code)]
+
+use std::path::{Path, PathBuf};
+use std::process::Command;
+
+/// The project root (where Cargo.toml is).
+pub fn project_root() -> PathBuf {
+    PathBuf::from(env!("CARGO_MANIFEST_DIR"))
+}
+
+/// The `ambit` binary built for this test run.
+pub fn ambit_binary() -> PathBuf {
+    PathBuf::from(env!("CARGO_BIN_EXE_ambit"))
+}
+
+fn references_required() -> bool {
+    let set = |name: &str| {
+        std::env::var(name).is_ok_and(|value| !value.is_empty() && value != "0" && value != "false")
+    };
+    set("AMBIT_REQUIRE_REFERENCES") || set("CI")
+}
+
+/// The reference Python interpreter, or `None` (with a notice) when it is
+/// absent and the references are not required. Panics when they are required.
+pub fn reference_python(test: &str) -> Option<PathBuf> {
+    match std::env::var_os("AMBIT_PYTHON") {
+        Some(python) if Path::new(&python).exists() => Some(PathBuf::from(python)),
+        Some(python) => panic!(
+            "{test}: AMBIT_PYTHON points at {}, which does not exist",
+            Path::new(&python).display()
+        ),
+        None if references_required() => panic!(
+            "{test}: the Python reference libraries are required here but AMBIT_PYTHON is not set; \
+             run scripts/test-all.sh"
+        ),
+        None => {
+            eprintln!(
+                "NOTICE: {test} skipped: no reference Python (run scripts/test-all.sh, \
+                 or set AMBIT_PYTHON to a venv with tests/reference/requirements.txt)"
+            );
+            None
+        }
+    }
+}
+
+/// Runs `tests/reference/<script>` with `arguments` and parses its stdout as JSON.
+/// Panics with the script's stderr when it fails.
+pub fn run_reference(python: &Path, script: &str, arguments: &[&str]) -> serde_json::Value {
+    let script_path = project_root().join("tests/reference").join(script);
+    let output = Command::new(python)
+        .arg(&script_path)
+        .args(arguments)
+        .output()
+        .unwrap_or_else(|error| panic!("cannot run {}: {error}", script_path.display()));
+    assert!(
+        output.status.success(),
+        "{} failed ({}):\n{}",
+        script_path.display(),
+        output.status,
+        String::from_utf8_lossy(&output.stderr)
+    );
+    serde_json::from_slice(&output.stdout).unwrap_or_else(|error| {
+        panic!(
+            "{} printed something that is not JSON ({error}):\n{}",
+            script_path.display(),
+            String::from_utf8_lossy(&output.stdout)
+        )
+    })
+}
+
+/// Runs the `ambit` binary and returns (exit success, stdout, stderr).
+pub fn run_ambit(arguments: &[&str]) -> (bool, String, String) {
+    let output = Command::new(ambit_binary())
+        .args(arguments)
+        .output()
+        .expect("the ambit binary runs");
+    (
+        output.status.success(),
+        String::from_utf8_lossy(&output.stdout).into_owned(),
+        String::from_utf8_lossy(&output.stderr).into_owned(),
+    )
+}
