@@ -14,5 +14,6 @@
 pub mod audio;
 pub mod pitch;
 pub mod score;
+pub mod synth;
 pub mod tessitura;
 pub mod track;
