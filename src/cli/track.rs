@@ -104,8 +104,16 @@ pub fn run(arguments: TrackArgs) -> anyhow::Result<()> {
             )?,
             _ => writeln!(out, "{:<22}none", "median pitch")?,
         }
-        writeln!(out, "{}", stable("lowest stable pitch", summary.lowest_stable))?;
-        writeln!(out, "{}", stable("highest stable pitch", summary.highest_stable))?;
+        writeln!(
+            out,
+            "{}",
+            stable("lowest stable pitch", summary.lowest_stable)
+        )?;
+        writeln!(
+            out,
+            "{}",
+            stable("highest stable pitch", summary.highest_stable)
+        )?;
         for warning in tracked.report.warnings.iter().chain(&summary.warnings) {
             writeln!(out, "warning: {warning}")?;
         }

@@ -33,6 +33,9 @@ pub struct HmmParameters {
     pub switch_probability: f64,
     /// Frames decided after this many later frames have been seen.
     pub lag_frames: usize,
+    /// Probability of a voiced jump of exactly one octave up (and the same
+    /// down) per frame; 0 leaves only the triangular moves.
+    pub octave_jump_probability: f64,
 }
 
 /// Everything the decoder keeps about a frame until it is decided.
@@ -56,6 +59,8 @@ pub struct Decoder {
     log_row_norm: Vec<f32>,
     log_stay: f32,
     log_switch: f32,
+    /// Log-probability of an octave jump (LOG_FLOOR when switched off).
+    log_octave: f32,
     /// Log-probabilities of the best path into each state (voiced 0..n,
     /// unvoiced n..2n) after the last frame.
     delta: Vec<f32>,
@@ -96,6 +101,8 @@ impl Decoder {
         let triangle: Vec<f64> = (0..=2 * half)
             .map(|index| 1.0 - (index as f64 - half as f64).abs() / (half as f64 + 1.0))
             .collect();
+        // The local moves share what the octave jumps leave.
+        let local_share = (1.0 - 2.0 * parameters.octave_jump_probability).max(1e-9);
         let log_row_norm = (0..bins)
             .map(|source| {
                 let sum: f64 = (0..=2 * half)
@@ -105,7 +112,7 @@ impl Decoder {
                     })
                     .map(|index| triangle[index])
                     .sum();
-                -(sum.ln() as f32)
+                (local_share.ln() - sum.ln()) as f32
             })
             .collect();
         let padded = bins + 2 * half;
@@ -115,6 +122,7 @@ impl Decoder {
             log_row_norm,
             log_stay: safe_ln(1.0 - parameters.switch_probability),
             log_switch: safe_ln(parameters.switch_probability),
+            log_octave: safe_ln(parameters.octave_jump_probability),
             delta: vec![0.0; 2 * bins],
             into_voiced: vec![f32::NEG_INFINITY; padded],
             into_unvoiced: vec![f32::NEG_INFINITY; padded],
@@ -264,6 +272,22 @@ impl Decoder {
                     }
                 }
             }
+            // Octave jumps (voiced targets only): from exactly one octave
+            // below or above, bypassing the triangle.
+            let octave = 12 * self.parameters.bins_per_semitone as usize;
+            if !unvoiced_target && self.log_octave > LOG_FLOOR {
+                for bin in 0..bins {
+                    let below = bin.checked_sub(octave);
+                    let above = Some(bin + octave).filter(|&source| source < bins);
+                    for source in [below, above].into_iter().flatten() {
+                        let candidate = source_scores[half + source] + self.log_octave;
+                        if candidate > self.best[bin] {
+                            self.best[bin] = candidate;
+                            self.arg[bin] = (half + source) as u32;
+                        }
+                    }
+                }
+            }
             let base = if unvoiced_target { bins } else { 0 };
             let from_voiced = if unvoiced_target {
                 &self.from_voiced_to_unvoiced
@@ -273,9 +297,7 @@ impl Decoder {
             for bin in 0..bins {
                 // Padded index → source bin (the padding is −∞, never chosen
                 // while any real source is finite; clamp for safety).
-                let source = (self.arg[bin] as usize)
-                    .saturating_sub(half)
-                    .min(bins - 1);
+                let source = (self.arg[bin] as usize).saturating_sub(half).min(bins - 1);
                 let source_state = if from_voiced[source] {
                     source
                 } else {
@@ -313,9 +335,8 @@ impl Decoder {
 
 /// The pitch bin nearest to `f0_hz` (clamped to the grid).
 fn bin_of(parameters: &HmmParameters, bins: usize, f0_hz: f64) -> usize {
-    let steps = 12.0
-        * f64::from(parameters.bins_per_semitone)
-        * (f0_hz / parameters.fmin_hz).log2();
+    let steps =
+        12.0 * f64::from(parameters.bins_per_semitone) * (f0_hz / parameters.fmin_hz).log2();
     if steps.is_finite() {
         (steps.round().max(0.0) as usize).min(bins.saturating_sub(1))
     } else {

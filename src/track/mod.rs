@@ -80,6 +80,10 @@ pub struct TrackConfig {
     /// Frames quieter than this (dBFS, RMS of the integration window) are
     /// unvoiced whatever their periodicity; `None` switches the gate off.
     pub voicing_gate_db: Option<f64>,
+    /// Per-frame probability of a voiced jump of exactly one octave (each
+    /// way), an addition to pYIN's HMM so octave leaps are followed at once
+    /// instead of after the triangle's slow climb; 0 switches it off.
+    pub octave_jump_probability: f64,
 }
 
 impl Default for TrackConfig {
@@ -96,6 +100,7 @@ impl Default for TrackConfig {
             switch_probability: 0.01,
             viterbi_lag_seconds: 0.25,
             voicing_gate_db: Some(-70.0),
+            octave_jump_probability: 0.001,
         }
     }
 }
@@ -161,7 +166,9 @@ pub fn validate(sample_rate: u32, config: &TrackConfig) -> Result<(), TrackError
             "hop {hop} s must be between one sample and one second"
         ));
     }
-    if !(config.integration_periods.is_finite() && (0.25..=8.0).contains(&config.integration_periods)) {
+    if !(config.integration_periods.is_finite()
+        && (0.25..=8.0).contains(&config.integration_periods))
+    {
         return bad(format!(
             "integration window of {} periods must be 0.25–8",
             config.integration_periods
@@ -174,8 +181,15 @@ pub fn validate(sample_rate: u32, config: &TrackConfig) -> Result<(), TrackError
         ));
     }
     let unit = |value: f64| value.is_finite() && value > 0.0 && value < 1.0;
+    if !(config.octave_jump_probability.is_finite()
+        && (0.0..0.5).contains(&config.octave_jump_probability))
+    {
+        return bad("the octave jump probability must lie in 0–0.5".into());
+    }
     if !unit(config.switch_probability) || !unit(config.yin_threshold) {
-        return bad("the switch probability and YIN threshold must lie strictly between 0 and 1".into());
+        return bad(
+            "the switch probability and YIN threshold must lie strictly between 0 and 1".into(),
+        );
     }
     if !(config.max_transition_octaves_per_second.is_finite()
         && config.max_transition_octaves_per_second > 0.0)
@@ -218,9 +232,9 @@ impl Plan {
             config.max_transition_octaves_per_second * 12.0 * config.hop_seconds;
         // As librosa.pyin: the triangle spans `semitones_per_frame` in all,
         // i.e. half of it each way.
-        let half_width =
-            ((semitones_per_frame * f64::from(config.bins_per_semitone) / 2.0).round() as usize)
-                .max(1);
+        let half_width = ((semitones_per_frame * f64::from(config.bins_per_semitone) / 2.0).round()
+            as usize)
+            .max(1);
         let lag_frames = (config.viterbi_lag_seconds / config.hop_seconds)
             .round()
             .min(u32::MAX as f64) as usize;
@@ -235,6 +249,7 @@ impl Plan {
                 transition_half_width: half_width,
                 switch_probability: config.switch_probability,
                 lag_frames,
+                octave_jump_probability: config.octave_jump_probability,
             },
         })
     }
@@ -275,7 +290,14 @@ impl Plan {
 /// Copies frame `index` out of `source` (which holds absolute samples
 /// `source_start..source_start + source.len()`), with zeros outside
 /// `0..signal_end`.
-fn fill_frame(plan: &Plan, index: usize, source: &[f32], source_start: i64, signal_end: i64, frame: &mut [f32]) {
+fn fill_frame(
+    plan: &Plan,
+    index: usize,
+    source: &[f32],
+    source_start: i64,
+    signal_end: i64,
+    frame: &mut [f32],
+) {
     let start = plan.frame_start(index);
     for (offset, slot) in frame.iter_mut().enumerate() {
         let absolute = start + offset as i64;
@@ -315,7 +337,11 @@ fn observe(
     }
     Observation {
         level_db: summary.level_db,
-        voiced_probability: if gated { 0.0 } else { summary.voiced_probability },
+        voiced_probability: if gated {
+            0.0
+        } else {
+            summary.voiced_probability
+        },
         yin: if gated { None } else { summary.yin },
     }
 }
@@ -365,9 +391,9 @@ impl Decision {
                         None
                     },
                     voiced,
-                    confidence: observation
-                        .yin
-                        .map_or(0.0, |estimate| (1.0 - estimate.aperiodicity).clamp(0.0, 1.0)),
+                    confidence: observation.yin.map_or(0.0, |estimate| {
+                        (1.0 - estimate.aperiodicity).clamp(0.0, 1.0)
+                    }),
                     level_db: observation.level_db,
                 };
                 out.push(frame);
@@ -430,7 +456,12 @@ pub fn track_samples(
             ..last_block)
             .into_par_iter()
             .map_init(
-                || (FrameAnalyser::new(plan.layout), vec![0.0f32; plan.layout.frame_samples]),
+                || {
+                    (
+                        FrameAnalyser::new(plan.layout),
+                        vec![0.0f32; plan.layout.frame_samples],
+                    )
+                },
                 |(analyser, frame), block| {
                     let start = block * BLOCK_FRAMES;
                     let end = (start + BLOCK_FRAMES).min(frame_count);
@@ -523,7 +554,9 @@ impl StreamingTracker {
         let rate = f64::from(self.plan.layout.sample_rate);
         let ahead = (self.plan.layout.frame_samples - self.plan.centre_offset) as f64 / rate;
         match self.plan.config.method {
-            TrackMethod::Pyin => ahead + self.plan.hmm.lag_frames as f64 * self.plan.config.hop_seconds,
+            TrackMethod::Pyin => {
+                ahead + self.plan.hmm.lag_frames as f64 * self.plan.config.hop_seconds
+            }
             TrackMethod::Yin => ahead,
         }
     }
@@ -564,7 +597,9 @@ impl StreamingTracker {
     /// decides every pending frame.
     pub fn finish(mut self) -> Vec<Frame> {
         let mut out = Vec::new();
-        let total = self.plan.frame_count(usize::try_from(self.received).unwrap_or(0));
+        let total = self
+            .plan
+            .frame_count(usize::try_from(self.received).unwrap_or(0));
         while self.next_frame < total {
             self.analyse_next(self.received, &mut out);
         }
@@ -583,9 +618,17 @@ impl StreamingTracker {
             &mut self.frame,
         );
         self.candidates.clear();
-        let observation = observe(&self.plan, &mut self.analyser, &self.frame, &mut self.candidates);
+        let observation = observe(
+            &self.plan,
+            &mut self.analyser,
+            &self.frame,
+            &mut self.candidates,
+        );
         let time = self.plan.frame_time(index);
-        self.provisional = Some(self.decision.push(time, &observation, &self.candidates, out));
+        self.provisional = Some(
+            self.decision
+                .push(time, &observation, &self.candidates, out),
+        );
         self.next_frame += 1;
     }
 

@@ -144,7 +144,11 @@ fn stable_extremes(
         while index < pitches.len() && pitches[index].is_some() {
             index += 1;
         }
-        let run: Vec<f64> = pitches[run_start..index].iter().flatten().copied().collect();
+        let run: Vec<f64> = pitches[run_start..index]
+            .iter()
+            .flatten()
+            .copied()
+            .collect();
         if run.len() < min_frames {
             continue;
         }
