@@ -15,6 +15,7 @@ pub mod audio;
 pub mod cautions;
 pub mod pitch;
 pub mod score;
+pub mod synth;
 pub mod tessitura;
 pub mod track;
 pub mod voice;
