@@ -13,6 +13,7 @@
 
 pub mod audio;
 pub mod cautions;
+pub mod demo;
 pub mod pitch;
 pub mod score;
 pub mod synth;
