@@ -99,7 +99,8 @@ def parallels(score) -> list:
                 if prev is not None:
                     (qa, oa, _), (qb, ob, _) = prev
                     moved_a, moved_b = pa[1] != oa, pb[1] != ob
-                    if moved_a and moved_b and pa[0] != qa and pb[0] != qb:
+                    unison_line = qa == qb and pa[0] == pb[0]  # a divided section singing one line
+                    if moved_a and moved_b and pa[0] != qa and pb[0] != qb and not unison_line:
                         before, after = (qa - qb) % 12, (pa[0] - pb[0]) % 12
                         same_dir = (pa[0] - qa) * (pb[0] - qb) > 0
                         if before == after and before in (0, 7) and same_dir and qa != qb and pa[0] != pb[0] or (

@@ -88,8 +88,8 @@ class Note:
     rest: bool
     pitches: list  # list of (step, alter, octave), sounding
     duration: int  # in divisions
-    tie_start: bool = False
-    tie_stop: bool = False
+    tie_starts: list = field(default_factory=list)  # per pitch: tied on to the next note
+    tie_stops: list = field(default_factory=list)  # per pitch: tied from the previous note
     lyrics: list = field(default_factory=list)  # one entry per verse; None = none
     measure_rest: bool = False
     fermata: bool = False
@@ -187,8 +187,12 @@ def parse_note(token: str, verses: int, where: str) -> Note:
         lyrics = [None if s in ("", ".") else s.replace("+", " ") for s in lyrics]
     if pitch_text == "r":
         return Note(True, [], duration, fermata=fermata)
-    pitches = [parse_pitch(p, where) for p in pitch_text.split("+")]
-    return Note(False, pitches, duration, tie_start=tie, lyrics=lyrics, fermata=fermata)
+    # A '~' after one pitch of a chord ties that pitch only; after the duration, all of them.
+    texts = pitch_text.split("+")
+    pitches = [parse_pitch(p.rstrip("~"), where) for p in texts]
+    ties = [tie or p.endswith("~") for p in texts]
+    return Note(False, pitches, duration, tie_starts=ties, tie_stops=[False] * len(pitches),
+                lyrics=lyrics, fermata=fermata)
 
 
 def parse_source(path: Path) -> Piece:
@@ -321,13 +325,11 @@ def check_and_fill(piece: Piece) -> None:
                     if not isinstance(e, Note) or e.rest:
                         continue
                     ident = (key, v.staff, v.number)
-                    midis = [midi_of(p) for p in e.pitches]
-                    if any((ident, m) in pending for m in midis):
-                        e.tie_stop = True
-                        for m in midis:
-                            pending.pop((ident, m), None)
-                    if e.tie_start:
-                        for m in midis:
+                    for k, p in enumerate(e.pitches):
+                        m = midi_of(p)
+                        if pending.pop((ident, m), None):
+                            e.tie_stops[k] = True
+                        if e.tie_starts[k]:
                             pending[(ident, m)] = True
     if pending:
         raise SourceError(f"unfinished ties: {sorted(pending)}")
@@ -347,14 +349,16 @@ def copy_lyrics(piece: Piece) -> None:
                     leader[t] = e.lyrics
                 t += e.duration
         for part in piece.parts:
-            if part.key == piece.lyrics_follow or part.program not in VOICE_PROGRAMS:
+            if part.program not in VOICE_PROGRAMS:
                 continue
-            for voice in bar.parts[part.key]:
+            for n_voice, voice in enumerate(bar.parts[part.key]):
+                if part.key == piece.lyrics_follow and n_voice == 0:
+                    continue
                 t = 0
                 for e in voice.events:
                     if not isinstance(e, Note):
                         continue
-                    if not e.rest and not e.tie_stop and not e.lyrics and t in leader:
+                    if not e.rest and not all(e.tie_stops) and not e.lyrics and t in leader:
                         e.lyrics = list(leader[t])
                     t += e.duration
 
@@ -560,6 +564,7 @@ def write_note(n: Note, voice: Voice, part: PartDef, shared_staff: bool, alters:
     # Written pitch: the sounding pitch moved by the clef's octave (tenor clef sounds an octave lower).
     shift = -part.octave_change if part.staves == 1 else 0
     for k, (step, alter, octave) in enumerate(n.pitches):
+        tie_start, tie_stop = n.tie_starts[k], n.tie_stops[k]
         woct = octave + shift
         parts = ["<note>"]
         if k > 0:
@@ -567,25 +572,25 @@ def write_note(n: Note, voice: Voice, part: PartDef, shared_staff: bool, alters:
         alter_xml = f"<alter>{alter}</alter>" if alter else ""
         parts.append(f"<pitch><step>{step}</step>{alter_xml}<octave>{woct}</octave></pitch>")
         parts.append(f"<duration>{n.duration}</duration>")
-        if n.tie_stop:
+        if tie_stop:
             parts.append('<tie type="stop"/>')
-        if n.tie_start:
+        if tie_start:
             parts.append('<tie type="start"/>')
         parts.append(f"<voice>{voice.number}</voice><type>{name}</type>" + "<dot/>" * dots)
         # Accidentals as printed: against the key signature and earlier notes in the bar.
         slot = (voice.staff, step, woct)
         in_force = alters.get(slot, key_alt[step])
-        if alter != in_force and not n.tie_stop:
+        if alter != in_force and not tie_stop:
             parts.append(f"<accidental>{ACCIDENTAL_NAMES[alter]}</accidental>")
-        if not n.tie_stop or slot in alters:
+        if not tie_stop or slot in alters:
             alters[slot] = alter
         if shared_staff:
             parts.append(f"<stem>{'up' if voice.number in (1, 5) else 'down'}</stem>")
         parts.append(staff)
         notations = []
-        if n.tie_stop:
+        if tie_stop:
             notations.append('<tied type="stop"/>')
-        if n.tie_start:
+        if tie_start:
             notations.append('<tied type="start"/>')
         if n.fermata and k == 0:
             notations.append('<fermata type="upright"/>')
@@ -730,15 +735,15 @@ def write_midi(piece: Piece) -> bytes:
                         continue
                     length = e.duration * ticks_per_div
                     if not e.rest:
-                        for p in e.pitches:
+                        for j, p in enumerate(e.pitches):
                             m = midi_of(p)
                             k = (voice.staff, voice.number, m)
-                            if e.tie_stop and k in sounding:
+                            if e.tie_stops[j] and k in sounding:
                                 notes[sounding[k]][1] = t + length
                             else:
                                 notes.append([t, t + length, m, velocity])
                                 sounding[k] = len(notes) - 1
-                            if not e.tie_start:
+                            if not e.tie_starts[j]:
                                 sounding.pop(k, None)
                     t += length
         for start, end, m, vel in notes:
