@@ -33,7 +33,7 @@ USUAL = {
 }
 # Pieces that go beyond the usual compass on purpose: (piece slug, voice) -> allowed range.
 ALLOWED = {
-    ("the-lamplighter-s-tenor", "Tenor"): (48, 70),  # B-flat 4 climax, written for this
+    ("the-lamplighter", "Tenor"): (48, 70),  # B-flat 4 climax, written for this
 }
 
 
@@ -101,7 +101,7 @@ def parallels(score) -> list:
                     moved_a, moved_b = pa[1] != oa, pb[1] != ob
                     unison_line = qa == qb and pa[0] == pb[0]  # a divided section singing one line
                     if moved_a and moved_b and pa[0] != qa and pb[0] != qb and not unison_line:
-                        before, after = (qa - qb) % 12, (pa[0] - pb[0]) % 12
+                        before, after = abs(qa - qb) % 12, abs(pa[0] - pb[0]) % 12  # voices may cross
                         same_dir = (pa[0] - qa) * (pb[0] - qb) > 0
                         if before == after and before in (0, 7) and same_dir and qa != qb and pa[0] != pb[0] or (
                             before == after == 0 and same_dir
