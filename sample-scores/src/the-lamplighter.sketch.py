@@ -116,9 +116,9 @@ def main() -> None:
     voiced = iter(voice(progression, RANGES, beam=120))
     out = [HEADER.rstrip(), ""]
     prev = {}  # voice -> last note (to tie)
+    collected = []
     for b in BARS:
         attrs = b.get("attrs", b["n"])
-        out.append(f"| {attrs}")
         parts = {"S": [], "A": [], "T": [], "B": []}
         order = ("S", "T", "A", "B")
         for ev in b["events"]:
@@ -153,9 +153,13 @@ def main() -> None:
                     note = [m, dur, None if syl == "~" else syl, False, ev[2]]
                 parts[k].append(note)
                 prev[k] = note
+        collected.append((b, attrs, parts))
+    # Formatted only now: a tie is marked on a note when the next bar holds it.
+    for b, attrs, parts in collected:
+        out.append(f"| {attrs}")
         for k in ("S", "A", "T", "B"):
             dyn = b.get("tdyn" if k == "T" else "x", "") or b.get("sdyn", "")
-            out.append(f"{k}: {(dyn + ' ') if dyn else ''}{fmt_line(parts[k], k == 'T' or any(n[2] for n in parts[k]))}")
+            out.append(f"{k}: {(dyn + ' ') if dyn else ''}{fmt_line(parts[k], True)}")
         rh, lh = piano(b)
         pdyn = b.get("pdyn", b.get("dyn", ""))
         out.append(f"P: {(pdyn + ' ') if pdyn else ''}{rh}")
