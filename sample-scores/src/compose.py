@@ -412,7 +412,6 @@ def write_musicxml(piece: Piece) -> str:
     w(f"      <encoding-date>{ENCODING_DATE}</encoding-date>")
     w('      <supports element="accidental" type="yes"/>')
     w('      <supports element="beam" type="no"/>')
-    w('      <supports element="stem" type="no"/>')
     w("    </encoding>")
     w("  </identification>")
     w("  <credit page=\"1\"><credit-type>title</credit-type>"
