@@ -703,7 +703,15 @@ def write_midi(piece: Piece) -> bytes:
     for idx in order:
         bar = piece.bars[idx]
         time, fifths = in_force[idx]
-        if time != last_time:
+        if bar.implicit:
+            # SMF has no pickup bar: a short time signature for it keeps later barlines in place.
+            length = bar_length_divisions(piece, idx)
+            beat = DIVISIONS * 4 // time[1]
+            shown = (length // beat, time[1]) if length % beat == 0 else (length * 4 // DIVISIONS, 16)
+            denom = {1: 0, 2: 1, 4: 2, 8: 3, 16: 4}[shown[1]]
+            conductor.append((tick, 1, meta(0x58, bytes([shown[0], denom, 24, 8]))))
+            last_time = shown
+        elif time != last_time:
             denom = {2: 1, 4: 2, 8: 3}[time[1]]
             conductor.append((tick, 1, meta(0x58, bytes([time[0], denom, 24, 8]))))
             last_time = time
@@ -745,6 +753,13 @@ def write_midi(piece: Piece) -> bytes:
                             if not e.tie_starts[j]:
                                 sounding.pop(k, None)
                     t += length
+        # Two voices of one staff in unison sound one key on one channel: keep one note.
+        unique = {}
+        for start, end, m, vel in notes:
+            key = (start, m)
+            if key not in unique or unique[key][1] < end:
+                unique[key] = [start, end, m, vel]
+        notes = sorted(unique.values())
         for start, end, m, vel in notes:
             events.append((start, 3, bytes([0x90 | channel, m, vel])))
             events.append((end, 2, bytes([0x80 | channel, m, 0])))
