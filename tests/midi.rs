@@ -149,9 +149,15 @@ fn overlapping_notes_of_one_pitch_pair_first_in_first_out() {
     let piece = read_ok(&smf(1, 480, &[track]));
     let notes = &piece.parts[0].notes;
     assert_eq!(notes.len(), 2);
-    assert_eq!((notes[0].onset_quarters, notes[0].duration_quarters), (0.0, 1.0));
+    assert_eq!(
+        (notes[0].onset_quarters, notes[0].duration_quarters),
+        (0.0, 1.0)
+    );
     assert_eq!(notes[0].velocity, Some(70));
-    assert_eq!((notes[1].onset_quarters, notes[1].duration_quarters), (0.5, 1.5));
+    assert_eq!(
+        (notes[1].onset_quarters, notes[1].duration_quarters),
+        (0.5, 1.5)
+    );
     assert_eq!(notes[1].velocity, Some(90));
 }
 
@@ -163,7 +169,11 @@ fn a_note_never_released_is_closed_at_the_end_of_its_track_with_a_warning() {
         .name(0, "Tenor")
         .note_on(480, 0, 64, 64)
         .end(1440);
-    let piece = read_ok(&smf(1, 480, &[Track::new().tempo(0, 500_000).end(0), tenor]));
+    let piece = read_ok(&smf(
+        1,
+        480,
+        &[Track::new().tempo(0, 500_000).end(0), tenor],
+    ));
     let note = &piece.parts[0].notes[0];
     assert_close(note.onset_seconds, 0.5, "onset");
     assert_close(note.duration_seconds, 1.5, "duration");
@@ -233,7 +243,12 @@ fn time_signatures_number_the_measures() {
         .collect();
     assert_eq!(
         measures,
-        [("1", 0.0, 3.0), ("2", 3.0, 3.0), ("3", 6.0, 2.0), ("4", 8.0, 2.0)]
+        [
+            ("1", 0.0, 3.0),
+            ("2", 3.0, 3.0),
+            ("3", 6.0, 2.0),
+            ("4", 8.0, 2.0)
+        ]
     );
     // Bar 4 starts at 8 quarters = 4.0 s at the default 120 per quarter.
     assert_close(piece.measures[3].onset_seconds, 4.0, "bar 4 onset");
@@ -290,7 +305,10 @@ fn smpte_timing_gives_seconds_directly_and_quarters_through_the_tempo_map() {
     assert_close(note.onset_quarters, 1.0, "onset quarters");
     assert_close(note.end_quarters(), 2.5, "end quarters");
     assert!(
-        piece.warnings.iter().any(|warning| warning.contains("SMPTE")),
+        piece
+            .warnings
+            .iter()
+            .any(|warning| warning.contains("SMPTE")),
         "{:?}",
         piece.warnings
     );

@@ -58,11 +58,7 @@ fn chorales_written_as_midi_by_music21_read_back_with_the_same_notes() {
     };
     let directory = tempfile::tempdir().expect("a temporary directory");
     let out = directory.path().to_str().expect("a UTF-8 temporary path");
-    let report = common::run_reference(
-        &python,
-        "music21_midi.py",
-        &[out, &CHORALES.to_string()],
-    );
+    let report = common::run_reference(&python, "music21_midi.py", &[out, &CHORALES.to_string()]);
     let chorales = report["chorales"].as_array().expect("chorales");
     for skipped in report["skipped"].as_array().into_iter().flatten() {
         eprintln!("music21 could not write {skipped}");
@@ -90,7 +86,13 @@ fn chorales_written_as_midi_by_music21_read_back_with_the_same_notes() {
             let ours = sorted(
                 part.notes
                     .iter()
-                    .map(|note| (note.midi as i64, note.onset_quarters, note.duration_quarters))
+                    .map(|note| {
+                        (
+                            note.midi as i64,
+                            note.onset_quarters,
+                            note.duration_quarters,
+                        )
+                    })
                     .collect(),
             );
             assert_eq!(

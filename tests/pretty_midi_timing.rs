@@ -103,7 +103,12 @@ fn random_file(seed: u64, ticks_per_quarter: u16, voices: usize) -> Vec<u8> {
         while tick < length {
             let step = ppq / 4 * (1 + random.below(6));
             // Legato overlap into the next note, sometimes.
-            let duration = step + if random.below(3) == 0 { random.below(ppq / 3) } else { 0 };
+            let duration = step
+                + if random.below(3) == 0 {
+                    random.below(ppq / 3)
+                } else {
+                    0
+                };
             let mut chord = vec![pitch];
             if random.below(4) == 0 {
                 chord.push(pitch - 3 - random.below(2) as u8);
@@ -228,7 +233,12 @@ fn note_seconds_agree_with_pretty_midi_under_tempo_changes() {
     for (path, file) in paths.iter().zip(files) {
         let ours = ambit_notes(path);
         let theirs = reference_notes(&file["notes"]);
-        assert!(ours.len() > 50, "{}: only {} notes", path.display(), ours.len());
+        assert!(
+            ours.len() > 50,
+            "{}: only {} notes",
+            path.display(),
+            ours.len()
+        );
         assert_eq!(
             ours.len(),
             theirs.len(),

@@ -225,10 +225,7 @@ impl Reader<'_> {
             // RIFF chunks are padded to an even length.
             offset = start.saturating_add(length).saturating_add(length % 2);
         }
-        Err(self.malformed(
-            12,
-            "a RIFF MIDI (RMID) file without a data chunk".into(),
-        ))
+        Err(self.malformed(12, "a RIFF MIDI (RMID) file without a data chunk".into()))
     }
 
     /// Reads the MThd chunk: format, declared track count, division.
@@ -238,10 +235,7 @@ impl Reader<'_> {
         base_offset: u64,
     ) -> Result<(u16, u16, Clock, usize), ScoreError> {
         if !smf.starts_with(b"MThd") {
-            return Err(self.malformed(
-                base_offset,
-                "expected a MIDI header chunk (MThd)".into(),
-            ));
+            return Err(self.malformed(base_offset, "expected a MIDI header chunk (MThd)".into()));
         }
         let Some(header) = smf.get(..14) else {
             return Err(self.malformed(
@@ -356,7 +350,11 @@ impl Reader<'_> {
             let length = u32::from_be_bytes([header[4], header[5], header[6], header[7]]) as usize;
             let file_offset = base_offset + offset as u64;
             let is_track = id == b"MTrk";
-            if !is_track && !id.iter().all(|byte| byte.is_ascii_graphic() || *byte == b' ') {
+            if !is_track
+                && !id
+                    .iter()
+                    .all(|byte| byte.is_ascii_graphic() || *byte == b' ')
+            {
                 return Err(self.malformed(
                     file_offset,
                     format!(
@@ -443,7 +441,7 @@ impl Reader<'_> {
                     return Err(self.malformed(
                         byte_offset,
                         format!(
-                            "track {number}: cannot decode the event at tick {tick} \
+                            "track {number}: cannot decode the event after tick {tick} \
                              (cut off, or data without a status byte)"
                         ),
                     ));
@@ -620,18 +618,13 @@ impl Reader<'_> {
     }
 
     /// Builds the tempo map from every track's Set Tempo events.
-    fn time_map(
-        &mut self,
-        clock: Clock,
-        tempos: &mut [GlobalEvent<u32>],
-    ) -> TimeMap {
+    fn time_map(&mut self, clock: Clock, tempos: &mut [GlobalEvent<u32>]) -> TimeMap {
         // Stable: at one tick, the later track's (then later event's) tempo wins,
         // as when the tracks are merged in order and played.
         tempos.sort_by_key(|event| event.tick);
         if tempos.is_empty() {
             self.warnings.push(
-                "no Set Tempo event: 120 quarter notes per minute assumed (the SMF default)"
-                    .into(),
+                "no Set Tempo event: 120 quarter notes per minute assumed (the SMF default)".into(),
             );
         }
         if let Clock::Timecode { ticks_per_second } = clock {
@@ -667,15 +660,21 @@ impl Reader<'_> {
     /// to the end of the last note. 4/4 until the first time signature (the
     /// SMF default). A time signature that falls inside a bar cuts that bar
     /// short.
-    fn measures(&mut self, gathered: &Gathered, time_map: &TimeMap) -> Result<Vec<Measure>, ScoreError> {
-        let end_quarters = gathered
+    fn measures(
+        &mut self,
+        gathered: &Gathered,
+        time_map: &TimeMap,
+    ) -> Result<Vec<Measure>, ScoreError> {
+        // The last note's end: (end tick, track number).
+        let last_end = gathered
             .tracks
             .iter()
-            .flat_map(|track| track.notes.iter())
-            .map(|note| time_map.position(note.end_tick).0)
-            .fold(0.0, f64::max);
+            .flat_map(|track| track.notes.iter().map(|note| (note.end_tick, track.number)))
+            .max();
+        let end_quarters = last_end.map_or(0.0, |(tick, _)| time_map.position(tick).0);
         let mut signatures: Vec<(f64, f64)> = Vec::new(); // (position, bar length), in quarters
-        let mut sorted: Vec<&GlobalEvent<TimeSignature>> = gathered.time_signatures.iter().collect();
+        let mut sorted: Vec<&GlobalEvent<TimeSignature>> =
+            gathered.time_signatures.iter().collect();
         sorted.sort_by_key(|event| event.tick);
         for event in sorted {
             let TimeSignature {
@@ -713,9 +712,10 @@ impl Reader<'_> {
                 length = at - position;
             }
             if measures.len() >= MAX_MIDI_MEASURES {
+                let (tick, track) = last_end.unwrap_or_default();
                 return Err(self.too_large(format!(
-                    "more than {MAX_MIDI_MEASURES} measures: the last note ends \
-                     {end_quarters} quarter notes in"
+                    "more than {MAX_MIDI_MEASURES} measures: the last note (track {track}) \
+                     ends at tick {tick}, {end_quarters} quarter notes in"
                 )));
             }
             measures.push(Measure {
@@ -779,7 +779,11 @@ impl Reader<'_> {
                     .or_else(|| track.instrument.clone())
                     .unwrap_or_else(|| format!("Track {}", track.number));
                 let main_channel = main_channel(&track.notes);
-                let program = track.programs.get(usize::from(main_channel)).copied().flatten();
+                let program = track
+                    .programs
+                    .get(usize::from(main_channel))
+                    .copied()
+                    .flatten();
                 parts.push(Part {
                     kind: part_kind(&name, program, &track.notes),
                     name,
@@ -920,9 +924,16 @@ fn main_channel(notes: &[TickNote]) -> u8 {
 /// piano sound and a two-note divisi stays a voice.
 fn part_kind(name: &str, program: Option<u8>, notes: &[TickNote]) -> PartKind {
     let lower = name.to_lowercase();
-    let keyboard_name = ["piano", "organ", "keyboard", "accomp", "harpsichord", "klavier"]
-        .iter()
-        .any(|word| lower.contains(word));
+    let keyboard_name = [
+        "piano",
+        "organ",
+        "keyboard",
+        "accomp",
+        "harpsichord",
+        "klavier",
+    ]
+    .iter()
+    .any(|word| lower.contains(word));
     let piano_program = program.is_some_and(|program| program <= 7);
     if (keyboard_name || piano_program) && chord_share(notes) >= 0.2 {
         PartKind::Accompaniment
