@@ -167,3 +167,23 @@ fn too_many_events_are_refused() {
     assert!(message.contains("track 1"), "{message}");
     assert!(message.contains("5000000 events"), "{message}");
 }
+
+#[test]
+fn impossible_smpte_frame_rate() {
+    // Division 0x8028: the high byte 0x80 is −128 frames per second, which no
+    // SMPTE rate is (SMF 1.0 allows −24, −25, −29, −30). Byte 12.
+    expect_error(
+        "midi-bad-smpte-rate.mid",
+        &["byte 12", "128 frames per second"],
+    );
+}
+
+#[test]
+fn rmid_data_chunk_longer_than_the_file() {
+    // RIFF "RMID" wrapper whose "data" chunk (at byte 12) declares
+    // 0xFFFFFFFF bytes (RIFF sizes are little-endian).
+    expect_error(
+        "midi-rmid-truncated-data.mid",
+        &["byte 12", "RMID data chunk", "4294967295 bytes"],
+    );
+}

@@ -205,7 +205,7 @@ impl Reader<'_> {
             return Err(self.malformed(8, "a RIFF file that is not RIFF MIDI (RMID)".into()));
         }
         let mut offset = 12usize;
-        while let Some(header) = bytes.get(offset..offset + 8) {
+        while let Some(header) = offset.checked_add(8).and_then(|end| bytes.get(offset..end)) {
             let id = &header[..4];
             let length = u32::from_le_bytes([header[4], header[5], header[6], header[7]]) as usize;
             let start = offset + 8;
@@ -303,7 +303,7 @@ impl Reader<'_> {
         } else {
             // SMPTE division: the high byte is minus the frame rate, the low
             // byte the ticks per frame (Standard MIDI Files 1.0, "Header Chunks").
-            let frames = (-((division >> 8) as u8 as i8)) as u8;
+            let frames = ((division >> 8) as u8 as i8).wrapping_neg() as u8;
             let ticks_per_frame = (division & 0xFF) as u8;
             let frames_per_second = match frames {
                 24 => 24.0,
