@@ -629,7 +629,7 @@ impl Reader<'_> {
         }
         if let Clock::Timecode { ticks_per_second } = clock {
             self.warnings.push(format!(
-                "SMPTE timing ({ticks_per_second} ticks per second): seconds come from the \
+                "SMPTE timing ({ticks_per_second:.3} ticks per second): seconds come from the \
                  clock; quarter notes are derived through the Set Tempo events"
             ));
         }
