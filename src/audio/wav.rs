@@ -200,6 +200,22 @@ fn route(path: &Path, h: WavHeader, fmt_offset: u64) -> Result<WavRoute, AudioEr
             ),
         });
     }
+    // Each frame holds one container-sized sample per channel (RIFF/WAVE
+    // specification); anything else means a damaged header.
+    let frame_bytes = u32::from(h.channels) * u32::from(h.bits_per_sample).div_ceil(8);
+    if u32::from(h.block_align) != frame_bytes {
+        return Err(AudioError::Malformed {
+            file,
+            message: format!(
+                "block align {} (byte {}) does not match {} channels of {}-bit samples \
+                 ({frame_bytes} bytes per frame)",
+                h.block_align,
+                fmt_offset + 20,
+                h.channels,
+                h.bits_per_sample
+            ),
+        });
+    }
     if h.data_len == 0 || h.data_offset >= h.file_len {
         return Err(AudioError::Unusable {
             file,
