@@ -12,7 +12,9 @@
 //! the stages after it. See `docs/ARCHITECTURE.md` for the map.
 
 pub mod audio;
+pub mod cautions;
 pub mod pitch;
 pub mod score;
 pub mod tessitura;
 pub mod track;
+pub mod voice;
