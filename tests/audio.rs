@@ -287,11 +287,15 @@ fn format_is_detected_by_content_not_extension() {
 #[test]
 fn resampling_keeps_frequency_and_amplitude() {
     let dir = tempfile::tempdir().expect("tempdir");
+    // 9 kHz: the top of the passband we rely on (the fifth harmonic of an
+    // f0 up to 1.8 kHz, and the 0–5 kHz timbre band with room to spare).
     for (rate, freq) in [
         (44_100u32, 440.0),
         (48_000, 1000.0),
         (8_000, 330.0),
         (96_000, 2000.0),
+        (44_100, 9000.0),
+        (48_000, 9000.0),
     ] {
         let path = dir.path().join(format!("r{rate}.wav"));
         write_wav(&path, spec(1, rate, 32, true), &sine(rate, freq, 0.5, 1.0));
