@@ -400,12 +400,10 @@ fn report_warns_about_clipping_dc_and_noise() {
 
     // Uniform noise in ±0.1 has RMS 0.1/√3 = −24.8 dBFS in every frame, so
     // the noise floor is about −24.8 dBFS, above the −40 dBFS warning line.
-    let mut state = 12345u64;
+    let mut rng = common::Lcg(12345u64);
     let noise: Vec<f64> = (0..16_000)
         .map(|_| {
-            state = state
-                .wrapping_mul(6_364_136_223_846_793_005)
-                .wrapping_add(1_442_695_040_888_963_407);
+            let state = rng.next_u64();
             ((state >> 11) as f64 / (1u64 << 53) as f64 * 2.0 - 1.0) * 0.1
         })
         .collect();

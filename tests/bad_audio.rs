@@ -210,14 +210,10 @@ fn mu_law_wav_is_decoded() {
 #[test]
 fn random_binary_and_text_are_not_audio() {
     let dir = tempfile::tempdir().expect("tempdir");
-    // A fixed linear congruential sequence (Knuth's MMIX constants), so the
-    // "random" file is the same on every run.
-    let mut state = 0x2545_F491_4F6C_DD1Du64;
+    let mut rng = common::Lcg(0x2545_F491_4F6C_DD1Du64);
     let noise: Vec<u8> = (0..65_536)
         .map(|_| {
-            state = state
-                .wrapping_mul(6_364_136_223_846_793_005)
-                .wrapping_add(1_442_695_040_888_963_407);
+            let state = rng.next_u64();
             (state >> 56) as u8
         })
         .collect();
@@ -359,12 +355,10 @@ fn too_short_is_unusable_with_its_length() {
 #[test]
 fn pure_noise_decodes_with_a_noise_warning() {
     let dir = tempfile::tempdir().expect("tempdir");
-    let mut state = 7u64;
+    let mut rng = common::Lcg(7u64);
     let pcm: Vec<u8> = (0..32_000)
         .flat_map(|_| {
-            state = state
-                .wrapping_mul(6_364_136_223_846_793_005)
-                .wrapping_add(1_442_695_040_888_963_407);
+            let state = rng.next_u64();
             ((state >> 48) as i16 / 4).to_le_bytes()
         })
         .collect();
