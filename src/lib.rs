@@ -13,6 +13,7 @@
 
 pub mod audio;
 pub mod pitch;
+pub mod placement;
 pub mod score;
 pub mod tessitura;
 pub mod track;
