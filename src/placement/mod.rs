@@ -17,6 +17,8 @@
 mod diagnose;
 mod flow;
 
+use std::collections::{HashMap, HashSet};
+
 use serde::{Deserialize, Serialize};
 use thiserror::Error;
 
@@ -225,17 +227,13 @@ pub fn evaluate(
     let mut totals = vec![0.0f64; section_count];
     let mut assignments = Vec::with_capacity(section_of.len());
     let mut at_risk = Vec::new();
+    let rules = PairRules::new(problem);
     for (singer, &section) in section_of.iter().enumerate() {
         let fit = pair_fit(problem, singer, section)?;
         counts[section] += 1;
         totals[section] += fit;
-        let locked = problem
-            .locks
-            .iter()
-            .any(|&(locked_singer, locked_section)| {
-                locked_singer == singer && locked_section == section
-            });
-        let runner_up = runner_up(problem, singer, section);
+        let locked = rules.locks(singer).contains(&section);
+        let runner_up = runner_up(problem, &rules, singer, section);
         let explanation = explain(problem, singer, section, fit, locked, runner_up.as_ref());
         let mut reasons = Vec::new();
         if fit < config.risk_threshold {
@@ -321,8 +319,32 @@ fn pair_fit(
     }
 }
 
-fn is_excluded(problem: &PlacementProblem, singer: usize, section: usize) -> bool {
-    problem.exclusions.contains(&(singer, section))
+/// Locks and exclusions indexed for O(1) look-ups (problems may carry
+/// thousands of them).
+struct PairRules {
+    excluded: HashSet<(usize, usize)>,
+    locks_of: HashMap<usize, Vec<usize>>,
+}
+
+impl PairRules {
+    fn new(problem: &PlacementProblem) -> PairRules {
+        let mut locks_of: HashMap<usize, Vec<usize>> = HashMap::new();
+        for &(singer, section) in &problem.locks {
+            locks_of.entry(singer).or_default().push(section);
+        }
+        PairRules {
+            excluded: problem.exclusions.iter().copied().collect(),
+            locks_of,
+        }
+    }
+
+    fn is_excluded(&self, singer: usize, section: usize) -> bool {
+        self.excluded.contains(&(singer, section))
+    }
+
+    fn locks(&self, singer: usize) -> &[usize] {
+        self.locks_of.get(&singer).map_or(&[], Vec::as_slice)
+    }
 }
 
 fn flagged_beyond_range(problem: &PlacementProblem, singer: usize, section: usize) -> bool {
@@ -344,12 +366,17 @@ fn pair_note(problem: &PlacementProblem, singer: usize, section: usize) -> Optio
 
 /// The best section other than `chosen` that the singer could sit in by fit
 /// and exclusions (locks aside, so a locked singer still sees the cost).
-fn runner_up(problem: &PlacementProblem, singer: usize, chosen: usize) -> Option<RunnerUp> {
+fn runner_up(
+    problem: &PlacementProblem,
+    rules: &PairRules,
+    singer: usize,
+    chosen: usize,
+) -> Option<RunnerUp> {
     let row = problem.fit.get(singer)?;
     let mut best: Option<(usize, f64)> = None;
     for (section, fit) in row.iter().enumerate() {
         let Some(fit) = *fit else { continue };
-        if section == chosen || is_excluded(problem, singer, section) {
+        if section == chosen || rules.is_excluded(singer, section) {
             continue;
         }
         if best.is_none_or(|(_, best_fit)| fit > best_fit) {
@@ -526,12 +553,13 @@ pub enum Violation {
 /// (by singer), then section sizes (by section).
 pub fn violations(problem: &PlacementProblem, section_of: &[usize]) -> Vec<Violation> {
     let mut found = Vec::new();
+    let rules = PairRules::new(problem);
     let mut counts = vec![0usize; problem.sections.len()];
     for (singer, &section) in section_of.iter().enumerate() {
         if let Some(count) = counts.get_mut(section) {
             *count += 1;
         }
-        found.extend(pair_violations(problem, singer, section));
+        found.extend(pair_violations(problem, &rules, singer, section));
     }
     for (section, &count) in counts.iter().enumerate() {
         found.extend(size_violations(problem, section, count));
@@ -539,7 +567,12 @@ pub fn violations(problem: &PlacementProblem, section_of: &[usize]) -> Vec<Viola
     found
 }
 
-fn pair_violations(problem: &PlacementProblem, singer: usize, section: usize) -> Vec<Violation> {
+fn pair_violations(
+    problem: &PlacementProblem,
+    rules: &PairRules,
+    singer: usize,
+    section: usize,
+) -> Vec<Violation> {
     let mut found = Vec::new();
     let singer_name = || problem.singers[singer].clone();
     let section_name = || problem.sections[section].clone();
@@ -552,14 +585,14 @@ fn pair_violations(problem: &PlacementProblem, singer: usize, section: usize) ->
             section: section_name(),
         });
     }
-    if is_excluded(problem, singer, section) {
+    if rules.is_excluded(singer, section) {
         found.push(Violation::Excluded {
             singer: singer_name(),
             section: section_name(),
         });
     }
-    for &(locked_singer, locked_section) in &problem.locks {
-        if locked_singer == singer && locked_section != section {
+    for &locked_section in rules.locks(singer) {
+        if locked_section != section {
             found.push(Violation::BreaksLock {
                 singer: singer_name(),
                 locked_to: problem.sections[locked_section].clone(),
@@ -651,7 +684,7 @@ pub fn what_if(
     let fit_before = assignment.fit;
     let fit_after = pair_fit(problem, singer, new_section)?;
     let mut sections = Vec::with_capacity(section_count);
-    let mut violations = pair_violations(problem, singer, new_section);
+    let mut violations = pair_violations(problem, &PairRules::new(problem), singer, new_section);
     let mut penalty_delta = 0.0;
     for (section, summary) in placement.sections.iter().enumerate() {
         let (count_after, total_after) = if from == new_section {
