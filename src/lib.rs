@@ -13,7 +13,10 @@
 
 pub mod audio;
 pub mod cautions;
+pub mod fit;
 pub mod pitch;
+pub mod roster;
 pub mod score;
+pub mod sections;
 pub mod tessitura;
 pub mod track;
