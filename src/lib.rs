@@ -20,3 +20,4 @@ pub mod score;
 pub mod sections;
 pub mod tessitura;
 pub mod track;
+pub mod transpose;
