@@ -157,10 +157,7 @@ pub fn interval_name(semitones: i32) -> String {
     } else {
         NAMES[size % 12].to_string()
     };
-    format!(
-        "{} a {name}",
-        if semitones > 0 { "up" } else { "down" }
-    )
+    format!("{} a {name}", if semitones > 0 { "up" } else { "down" })
 }
 
 const MAJOR_BY_FIFTHS: [&str; 15] = [
@@ -250,7 +247,11 @@ pub fn soloist_keys(
                 .fit
                 .total_cmp(&b.fit.fit)
                 // Prefer the smaller move on a tie (max_by keeps the last maximum).
-                .then(b.transpose_semitones.abs().cmp(&a.transpose_semitones.abs()))
+                .then(
+                    b.transpose_semitones
+                        .abs()
+                        .cmp(&a.transpose_semitones.abs()),
+                )
         })
         .map_or(0, |key| key.transpose_semitones);
     SoloistAdvice {
@@ -264,16 +265,19 @@ pub fn soloist_keys(
 
 /// The placement recorded in a roster's `section` column: the placed
 /// singers, and the names of the unplaced.
-pub fn roster_placement(roster: &Roster) -> Result<(Vec<(Singer, Section)>, Vec<String>), TransposeError> {
+pub fn roster_placement(
+    roster: &Roster,
+) -> Result<(Vec<(Singer, Section)>, Vec<String>), TransposeError> {
     let mut placed = Vec::new();
     let mut unplaced = Vec::new();
     for singer in &roster.singers {
         match singer.section.as_deref().map(str::trim) {
             Some(label) if !label.is_empty() => {
-                let section = Section::parse(label).map_err(|source| TransposeError::BadSection {
-                    singer: singer.name.clone(),
-                    source,
-                })?;
+                let section =
+                    Section::parse(label).map_err(|source| TransposeError::BadSection {
+                        singer: singer.name.clone(),
+                        source,
+                    })?;
                 placed.push((singer.clone(), section));
             }
             _ => unplaced.push(singer.name.clone()),
@@ -293,9 +297,16 @@ pub fn choir_keys(
     config: &TransposeConfig,
 ) -> Result<ChoirAdvice, TransposeError> {
     let (placed, unplaced) = roster_placement(roster)?;
-    let labels: Vec<String> = placed.iter().map(|(_, section)| section.to_string()).collect();
+    let labels: Vec<String> = placed
+        .iter()
+        .map(|(_, section)| section.to_string())
+        .collect();
     let layout = Layout::from_labels(labels.iter().map(String::as_str))?;
-    let mappings = map_programme(std::slice::from_ref(piece), &layout, &config.section_fit.mapping)?;
+    let mappings = map_programme(
+        std::slice::from_ref(piece),
+        &layout,
+        &config.section_fit.mapping,
+    )?;
     let piece_name = mappings
         .first()
         .map_or_else(|| "the piece".to_string(), |mapping| mapping.piece.clone());
