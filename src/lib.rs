@@ -21,3 +21,4 @@ pub mod sections;
 pub mod tessitura;
 pub mod track;
 pub mod transpose;
+pub mod voice;
