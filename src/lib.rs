@@ -12,8 +12,18 @@
 //! the stages after it. See `docs/ARCHITECTURE.md` for the map.
 
 pub mod audio;
+pub mod cautions;
+pub mod fit;
+pub mod pitch;
+pub mod audio;
+pub mod cautions;
+pub mod fit;
 pub mod pitch;
 pub mod placement;
+pub mod roster;
 pub mod score;
+pub mod sections;
 pub mod tessitura;
 pub mod track;
+pub mod transpose;
+pub mod voice;
