@@ -16,6 +16,7 @@ pub mod cautions;
 pub mod fit;
 pub mod pitch;
 pub mod placement;
+pub mod plan;
 pub mod roster;
 pub mod score;
 pub mod sections;

@@ -137,7 +137,9 @@ fn singer_conflicts(problem: &PlacementProblem, allowed: &[Vec<usize>]) -> Vec<I
                     message: format!("{name} is locked to {section_name} but is excluded from it"),
                 });
             }
-            if matches!(problem.fit[singer].get(section), Some(None)) {
+            if matches!(problem.fit[singer].get(section), Some(None))
+                && !problem.exclusions.contains(&(singer, section))
+            {
                 found.push(Infeasibility {
                     kind: InfeasibilityKind::LockedToDisallowed,
                     sections: vec![section_name.clone()],
