@@ -434,7 +434,12 @@ fn explain(
             "{name}: locked there (fit {chosen_text}); {} would be {other_text}",
             other.section
         )
-    } else if fit >= other.fit {
+    } else if fit == other.fit {
+        format!(
+            "{name}, tied with {}: fit {chosen_text} vs {other_text}",
+            other.section
+        )
+    } else if fit > other.fit {
         format!(
             "{name} over {}: fit {chosen_text} vs {other_text}",
             other.section
