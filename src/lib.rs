@@ -13,8 +13,14 @@
 
 pub mod audio;
 pub mod cautions;
+pub mod fit;
 pub mod pitch;
+pub mod placement;
+pub mod plan;
+pub mod roster;
 pub mod score;
+pub mod sections;
 pub mod tessitura;
 pub mod track;
+pub mod transpose;
 pub mod voice;

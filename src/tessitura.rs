@@ -76,6 +76,12 @@ impl PitchDistribution {
         PitchDistribution { points, total }
     }
 
+    /// The (MIDI pitch, weight) points sorted by pitch, for figures that need
+    /// more than a share (e.g. semitone-seconds beyond a limit in `fit`).
+    pub fn points(&self) -> &[(f64, f64)] {
+        &self.points
+    }
+
     /// Total weight (sung seconds or quarters, every chord tone counted).
     pub fn total(&self) -> f64 {
         self.total

@@ -2,6 +2,7 @@
 //! its arguments, calls the engine and formats text or JSON.
 
 mod parts;
+mod place;
 mod profile;
 mod track;
 
@@ -23,6 +24,8 @@ pub enum Command {
     Track(track::TrackArgs),
     /// A singer's profile (range, comfort zone, passaggi, voice type, section) from audition recordings.
     Profile(profile::ProfileArgs),
+    /// The optimal placement of a roster into a layout's sections over a programme of scores.
+    Place(place::PlaceArgs),
 }
 
 pub fn run(cli: Cli) -> anyhow::Result<()> {
@@ -30,5 +33,6 @@ pub fn run(cli: Cli) -> anyhow::Result<()> {
         Command::Parts(arguments) => parts::run(arguments),
         Command::Track(arguments) => track::run(arguments),
         Command::Profile(arguments) => profile::run(arguments),
+        Command::Place(arguments) => place::run(arguments),
     }
 }
