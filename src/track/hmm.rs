@@ -6,8 +6,8 @@
 //! between bins a triangular window of half-width `w` bins (row-normalised,
 //! no wrap), times 1 − p_switch for staying voiced/unvoiced and p_switch for
 //! switching. Emissions: a voiced bin gets the summed probability of the
-//! frame's candidates falling in it; every unvoiced bin gets
-//! (1 − voicing probability)/n.
+//! frame's candidates falling in it, times a trust factor c; every unvoiced
+//! bin gets (1 − c · voicing probability)/n.
 //!
 //! Decoding is fixed-lag Viterbi: after frame t the best state at t is traced
 //! back `lag` frames and frame t − lag is decided for good. Offline and
@@ -36,6 +36,10 @@ pub struct HmmParameters {
     /// Probability of a voiced jump of exactly one octave up (and the same
     /// down) per frame; 0 leaves only the triangular moves.
     pub octave_jump_probability: f64,
+    /// Weight on the candidates' probabilities in the emissions (pYIN's
+    /// "YIN trust"): voiced bins get trust × mass, unvoiced bins
+    /// (1 − trust × voicing probability)/n. 1 is librosa's choice.
+    pub candidate_trust: f64,
 }
 
 /// Everything the decoder keeps about a frame until it is decided.
@@ -174,13 +178,14 @@ impl Decoder {
             let bin = bin_of(&parameters, bins, candidate.f0_hz);
             slot.candidates.push((bin, *candidate));
             if let Some(mass) = voiced_mass.get_mut(bin) {
-                *mass += candidate.probability as f32;
+                *mass += (parameters.candidate_trust * candidate.probability) as f32;
             }
         }
         for value in voiced_mass.iter_mut() {
             *value = safe_ln(f64::from(*value));
         }
-        let unvoiced = safe_ln((1.0 - voiced_probability).max(0.0) / bins as f64);
+        let unvoiced =
+            safe_ln((1.0 - parameters.candidate_trust * voiced_probability).max(0.0) / bins as f64);
         self.emission[bins..].fill(unvoiced);
 
         if !self.started {
