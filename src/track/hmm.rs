@@ -75,12 +75,17 @@ pub struct Decoder {
     from_voiced_to_voiced: Vec<bool>,
     from_voiced_to_unvoiced: Vec<bool>,
     best: Vec<f32>,
-    arg: Vec<u32>,
+    /// Winning offset per bin, as f32 so the select shares the score's mask.
+    arg: Vec<f32>,
     emission: Vec<f32>,
     pending: VecDeque<PendingFrame>,
     spare: Vec<PendingFrame>,
     started: bool,
 }
+
+/// Bins handled per inner-loop chunk (fixed width so the compiler emits
+/// SIMD compare-and-select).
+const LANES: usize = 8;
 
 /// Floor for log-probabilities of impossible events (librosa adds the
 /// smallest positive float before taking logs).
@@ -119,7 +124,8 @@ impl Decoder {
                 (local_share.ln() - sum.ln()) as f32
             })
             .collect();
-        let padded = bins + 2 * half;
+        // Room for whole SIMD-width chunks past the last bin.
+        let padded = bins.next_multiple_of(LANES) + 2 * half;
         Decoder {
             bins,
             log_triangle: triangle.iter().map(|&weight| safe_ln(weight)).collect(),
@@ -132,8 +138,8 @@ impl Decoder {
             into_unvoiced: vec![f32::NEG_INFINITY; padded],
             from_voiced_to_voiced: vec![false; bins],
             from_voiced_to_unvoiced: vec![false; bins],
-            best: vec![0.0; bins],
-            arg: vec![0; bins],
+            best: vec![0.0; bins.next_multiple_of(LANES)],
+            arg: vec![0.0; bins.next_multiple_of(LANES)],
             emission: vec![0.0; 2 * bins],
             pending: VecDeque::new(),
             spare: Vec::new(),
@@ -181,8 +187,20 @@ impl Decoder {
                 *mass += (parameters.candidate_trust * candidate.probability) as f32;
             }
         }
+        // Logs only where there is mass (a handful of bins), not over the
+        // whole grid: the logarithm is the costliest step of a frame here.
+        // Empty bins first, then each touched bin once (its log is ≤ 0).
         for value in voiced_mass.iter_mut() {
-            *value = safe_ln(f64::from(*value));
+            if *value == 0.0 {
+                *value = LOG_FLOOR;
+            }
+        }
+        for &(bin, _) in &slot.candidates {
+            if let Some(value) = voiced_mass.get_mut(bin)
+                && *value > 0.0
+            {
+                *value = safe_ln(f64::from(*value));
+            }
         }
         let unvoiced =
             safe_ln((1.0 - parameters.candidate_trust * voiced_probability).max(0.0) / bins as f64);
@@ -262,18 +280,23 @@ impl Decoder {
             // Max-plus convolution with the triangle, written offset-major so
             // the inner loop over bins vectorises (compare and select).
             self.best.fill(f32::NEG_INFINITY);
-            self.arg.fill(0);
+            self.arg.fill(0.0);
+            // `arg` holds the winning offset; branch-free selects keep the
+            // loop vectorisable.
             for (offset, &weight) in self.log_triangle.iter().enumerate() {
-                let shifted = &source_scores[offset..offset + bins];
-                for (bin, (&score, (best, arg))) in shifted
-                    .iter()
-                    .zip(self.best.iter_mut().zip(self.arg.iter_mut()))
-                    .enumerate()
+                let shifted = &source_scores[offset..offset + self.best.len()];
+                let offset_tag = offset as f32;
+                for ((best, arg), score) in self
+                    .best
+                    .chunks_exact_mut(LANES)
+                    .zip(self.arg.chunks_exact_mut(LANES))
+                    .zip(shifted.chunks_exact(LANES))
                 {
-                    let candidate = score + weight;
-                    if candidate > *best {
-                        *best = candidate;
-                        *arg = (bin + offset) as u32;
+                    for lane in 0..LANES {
+                        let candidate = score[lane] + weight;
+                        let better = candidate > best[lane];
+                        best[lane] = if better { candidate } else { best[lane] };
+                        arg[lane] = if better { offset_tag } else { arg[lane] };
                     }
                 }
             }
@@ -288,7 +311,8 @@ impl Decoder {
                         let candidate = source_scores[half + source] + self.log_octave;
                         if candidate > self.best[bin] {
                             self.best[bin] = candidate;
-                            self.arg[bin] = (half + source) as u32;
+                            // As an offset: source = bin + offset − half.
+                            self.arg[bin] = (half + source - bin) as f32;
                         }
                     }
                 }
@@ -300,9 +324,11 @@ impl Decoder {
                 &self.from_voiced_to_voiced
             };
             for bin in 0..bins {
-                // Padded index → source bin (the padding is −∞, never chosen
-                // while any real source is finite; clamp for safety).
-                let source = (self.arg[bin] as usize).saturating_sub(half).min(bins - 1);
+                // Offset → source bin (the padding is −∞, never chosen while
+                // any real source is finite; clamp for safety).
+                let source = (bin + self.arg[bin] as usize)
+                    .saturating_sub(half)
+                    .min(bins - 1);
                 let source_state = if from_voiced[source] {
                     source
                 } else {

@@ -685,6 +685,11 @@ pub enum TrackFileError {
 
 /// Decodes `path` at [`ANALYSIS_SAMPLE_RATE`] and tracks it.
 pub fn track_file(path: &Path, config: &TrackConfig) -> Result<TrackedFile, TrackFileError> {
+    // A bad configuration is reported before any decoding work.
+    validate(ANALYSIS_SAMPLE_RATE, config).map_err(|source| TrackFileError::Track {
+        file: path.to_path_buf(),
+        source,
+    })?;
     let decoded = audio::decode_file(
         path,
         &DecodeOptions {
