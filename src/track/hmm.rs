@@ -294,9 +294,11 @@ impl Decoder {
                 {
                     for lane in 0..LANES {
                         let candidate = score[lane] + weight;
-                        let better = candidate > best[lane];
-                        best[lane] = if better { candidate } else { best[lane] };
-                        arg[lane] = if better { offset_tag } else { arg[lane] };
+                        let kept = best[lane];
+                        // 1.0 where this offset wins (ties keep the earlier).
+                        let take = f32::from(u8::from(candidate > kept));
+                        best[lane] = kept.max(candidate);
+                        arg[lane] += take * (offset_tag - arg[lane]);
                     }
                 }
             }
@@ -312,7 +314,8 @@ impl Decoder {
                         if candidate > self.best[bin] {
                             self.best[bin] = candidate;
                             // As an offset: source = bin + offset − half.
-                            self.arg[bin] = (half + source - bin) as f32;
+                            // (Negative for a jump up from below.)
+                            self.arg[bin] = half as f32 + source as f32 - bin as f32;
                         }
                     }
                 }
@@ -326,9 +329,8 @@ impl Decoder {
             for bin in 0..bins {
                 // Offset → source bin (the padding is −∞, never chosen while
                 // any real source is finite; clamp for safety).
-                let source = (bin + self.arg[bin] as usize)
-                    .saturating_sub(half)
-                    .min(bins - 1);
+                let source = (bin as i64 + self.arg[bin] as i64 - half as i64)
+                    .clamp(0, bins as i64 - 1) as usize;
                 let source_state = if from_voiced[source] {
                     source
                 } else {
