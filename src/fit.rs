@@ -52,7 +52,7 @@ impl Default for FitWeights {
             share_outside: 1.5,
             severity: 0.5,
             beyond_range: 5.0,
-            passaggio: 0.5,
+            passaggio: 0.25,
             stretch: 0.4,
         }
     }
@@ -836,4 +836,49 @@ fn singer_section_fit(
         passaggio_share: share(passaggio),
         pieces,
     }
+}
+
+/// One singer on one line of one piece: the record `ambit fit` prints.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+pub struct LineFitRecord {
+    pub singer: String,
+    pub piece: String,
+    /// The part's name, with "(upper)"/"(lower)" for a divisi line.
+    pub part: String,
+    pub role: LineRole,
+    pub fit: PartFit,
+}
+
+/// Every singer against every sung line of a piece: each voice part as
+/// written and, when it divides, its upper and lower lines.
+pub fn piece_fits(roster: &Roster, piece: &Piece, config: &FitConfig) -> Vec<LineFitRecord> {
+    let title = piece
+        .title
+        .clone()
+        .unwrap_or_else(|| "untitled".to_string());
+    let mut lines: Vec<(String, LineRole, &[Note])> = Vec::new();
+    let mut divisi_parts: Vec<(String, LineRole, Part)> = Vec::new();
+    for part in piece.voice_parts() {
+        lines.push((part.name.clone(), LineRole::Whole, &part.notes));
+        if let Some([upper, lower]) = crate::tessitura::split_divisi(part) {
+            divisi_parts.push((upper.name.clone(), LineRole::Upper, upper));
+            divisi_parts.push((lower.name.clone(), LineRole::Lower, lower));
+        }
+    }
+    for (name, role, part) in &divisi_parts {
+        lines.push((name.clone(), *role, &part.notes));
+    }
+    let mut records = Vec::with_capacity(roster.singers.len() * lines.len());
+    for singer in &roster.singers {
+        for (name, role, notes) in &lines {
+            records.push(LineFitRecord {
+                singer: singer.name.clone(),
+                piece: title.clone(),
+                part: name.clone(),
+                role: *role,
+                fit: notes_fit(singer, piece, notes, config),
+            });
+        }
+    }
+    records
 }

@@ -164,7 +164,7 @@ fn worked_example_worst_passage() {
 #[test]
 fn passaggio_load_counts_time_within_a_semitone() {
     // Secondo at C5 (72): only the C5 note (2 s) lies within ±1 semitone.
-    // It is inside the comfort zone, so the formula adds 0.5·2/9.
+    // It is inside the comfort zone, so the formula adds 0.25·2/9.
     let mut singer = example_singer();
     singer.secondo_midi = Some(72.0);
     let example = piece("Example", vec![part("Soprano", example_notes())]);
@@ -180,7 +180,7 @@ fn passaggio_load_counts_time_within_a_semitone() {
         * (-(1.5 * 5.0 / 9.0
             + 0.5 * 15.0 / 14.0
             + 5.0 / 14.0
-            + 0.5 * 2.0 / 9.0
+            + 0.25 * 2.0 / 9.0
             + 0.4 * 3.5 / 33.5f64))
             .exp();
     assert!(close(fit.fit, expected), "{} vs {expected}", fit.fit);
