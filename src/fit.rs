@@ -410,7 +410,7 @@ pub fn worst_passages(
     config: &FitConfig,
 ) -> Vec<Passage> {
     let window = config.passage_window_seconds;
-    if config.worst_passages == 0 || !(window > 0.0) {
+    if config.worst_passages == 0 || window.is_nan() || window <= 0.0 {
         return Vec::new();
     }
     let mut outside: Vec<(&Note, f64, bool)> = notes

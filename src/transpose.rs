@@ -207,7 +207,7 @@ pub fn interval_name(semitones: i32) -> String {
         return "as written".to_string();
     }
     let size = semitones.unsigned_abs() as usize;
-    let name = if size % 12 == 0 {
+    let name = if size.is_multiple_of(12) {
         format!("{} octave{}", size / 12, if size >= 24 { "s" } else { "" })
     } else if size > 12 {
         format!("octave and a {}", NAMES[size % 12])
@@ -317,11 +317,12 @@ pub fn soloist_keys(
     }
 }
 
+/// A placement: each placed singer with their section.
+pub type Placement = Vec<(Singer, Section)>;
+
 /// The placement recorded in a roster's `section` column: the placed
 /// singers, and the names of the unplaced.
-pub fn roster_placement(
-    roster: &Roster,
-) -> Result<(Vec<(Singer, Section)>, Vec<String>), TransposeError> {
+pub fn roster_placement(roster: &Roster) -> Result<(Placement, Vec<String>), TransposeError> {
     let mut placed = Vec::new();
     let mut unplaced = Vec::new();
     for singer in &roster.singers {
