@@ -267,11 +267,19 @@ proptest! {
     #[test]
     fn moving_a_note_further_outside_never_raises_fit(
         notes in arbitrary_notes(), singer in arbitrary_singer(),
-        pick in 0usize..1000, delta in 0.01f64..12.0, upward in any::<bool>(),
+        pick in 0usize..1000, delta in prop_oneof![0.001f64..0.5, 0.01f64..12.0],
+        upward in any::<bool>(), passaggio_on_note in prop::option::of(-1.0f64..=1.0),
     ) {
+        let mut singer = singer;
+        let index = pick % notes.len();
+        // Often put a passaggio on the moved note itself: the case where
+        // leaving the comfort zone also leaves a passaggio band.
+        if let Some(offset) = passaggio_on_note {
+            singer.primo_midi = Some(notes[index].midi + offset);
+            singer.secondo_midi = None;
+        }
         let before = fit_of(&singer, &notes);
         let mut moved = notes.clone();
-        let index = pick % moved.len();
         let midi = moved[index].midi;
         moved[index].midi = if midi > singer.comfort_high_midi {
             midi + delta
