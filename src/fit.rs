@@ -149,6 +149,9 @@ pub struct PartFit {
 pub struct PartProfile {
     /// The one duration-weighted distribution (tessitura), over seconds.
     distribution: PitchDistribution,
+    /// Its points with equal pitches merged: a part sings a few dozen
+    /// distinct pitches, so every singer × key costs that many steps.
+    merged: Vec<(f64, f64)>,
     lowest_midi: Option<f64>,
     highest_midi: Option<f64>,
     /// (threshold, longest stretch of notes strictly above it), thresholds
@@ -196,12 +199,14 @@ pub fn profile_notes(notes: &[Note], config: &FitConfig) -> PartProfile {
     let mut sung: Vec<&Note> = notes.iter().filter(|note| is_sung(note)).collect();
     sung.sort_by(|a, b| a.onset_seconds.total_cmp(&b.onset_seconds));
     let distribution = PitchDistribution::from_notes(sung.iter().copied(), Weight::Seconds);
-    let mut thresholds: Vec<f64> = distribution
-        .points()
-        .iter()
-        .map(|&(midi, _)| midi)
-        .collect();
-    thresholds.dedup();
+    let mut merged: Vec<(f64, f64)> = Vec::new();
+    for &(midi, seconds) in distribution.points() {
+        match merged.last_mut() {
+            Some(last) if last.0 == midi => last.1 += seconds,
+            _ => merged.push((midi, seconds)),
+        }
+    }
+    let thresholds: Vec<f64> = merged.iter().map(|&(midi, _)| midi).collect();
     let sounding = notes
         .iter()
         .filter(|note| note.midi.is_finite())
@@ -218,6 +223,7 @@ pub fn profile_notes(notes: &[Note], config: &FitConfig) -> PartProfile {
     PartProfile {
         stretch_all: longest_stretch(sung.iter().copied(), config.breath_seconds),
         distribution,
+        merged,
         lowest_midi,
         highest_midi,
         stretch_above,
@@ -255,13 +261,10 @@ pub fn fit_profile(
 ) -> PartFit {
     let shift = f64::from(transpose_semitones);
     let band = config.passaggio_band_semitones;
-    let passaggi: Vec<f64> = [singer.primo_midi, singer.secondo_midi]
-        .into_iter()
-        .flatten()
-        .collect();
+    let passaggi = [singer.primo_midi, singer.secondo_midi];
     let (mut above, mut below, mut semitone_seconds) = (0.0, 0.0, 0.0);
     let (mut beyond, mut passaggio, mut passaggio_inside) = (0.0, 0.0, 0.0);
-    for &(written_midi, seconds) in profile.distribution.points() {
+    for &(written_midi, seconds) in &profile.merged {
         let midi = written_midi + shift;
         let over = midi - singer.comfort_high_midi;
         let under = singer.comfort_low_midi - midi;
@@ -276,7 +279,7 @@ pub fn fit_profile(
         if midi < singer.range_low_midi || midi > singer.range_high_midi {
             beyond += seconds;
         }
-        if passaggi.iter().any(|p| (midi - p).abs() <= band) {
+        if passaggi.iter().flatten().any(|p| (midi - p).abs() <= band) {
             passaggio += seconds;
             if inside {
                 passaggio_inside += seconds;
@@ -313,7 +316,7 @@ pub fn fit_profile(
         beyond_range: beyond_flag,
         passaggio_seconds: passaggio,
         passaggio_share: share(passaggio),
-        passaggio_known: !passaggi.is_empty(),
+        passaggio_known: passaggi.iter().any(Option::is_some),
         longest_high_stretch_seconds: stretch,
         part_lowest_midi: lowest,
         part_highest_midi: highest,
@@ -533,6 +536,10 @@ pub struct SectionFitConfig {
     pub beyond_range: BeyondRangePolicy,
     pub divisi: DivisiRule,
     pub exclusions: Vec<Exclusion>,
+    /// Leave `SectionFitDetail::pieces` empty (the per-piece, per-line
+    /// figures): for very large rosters, where they would take hundreds of
+    /// MB; the programme-level figures are still filled in.
+    pub skip_piece_details: bool,
 }
 
 /// A singer's fit to one line of one piece.
@@ -805,6 +812,9 @@ fn singer_section_fit(
                 weighted_fit += weight * fit;
                 total_weight += weight;
             }
+        }
+        if config.skip_piece_details {
+            continue;
         }
         pieces.push(PieceSectionFit {
             piece: mapping.piece.clone(),
