@@ -1,10 +1,12 @@
 //! Command-line interface: one file per subcommand. Each subcommand parses
 //! its arguments, calls the engine and formats text or JSON.
 
+mod fit;
 mod parts;
 mod place;
 mod profile;
 mod track;
+mod transpose;
 
 use clap::{Parser, Subcommand};
 
@@ -26,6 +28,10 @@ pub enum Command {
     Profile(profile::ProfileArgs),
     /// The optimal placement of a roster into a layout's sections over a programme of scores.
     Place(place::PlaceArgs),
+    /// How well every singer of a roster fits every part of the scores.
+    Fit(fit::FitArgs),
+    /// The key in which a piece sits best for a soloist or the placed choir.
+    Transpose(transpose::TransposeArgs),
 }
 
 pub fn run(cli: Cli) -> anyhow::Result<()> {
@@ -34,5 +40,7 @@ pub fn run(cli: Cli) -> anyhow::Result<()> {
         Command::Track(arguments) => track::run(arguments),
         Command::Profile(arguments) => profile::run(arguments),
         Command::Place(arguments) => place::run(arguments),
+        Command::Fit(arguments) => fit::run(arguments),
+        Command::Transpose(arguments) => transpose::run(arguments),
     }
 }
