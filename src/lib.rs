@@ -12,6 +12,7 @@
 //! the stages after it. See `docs/ARCHITECTURE.md` for the map.
 
 pub mod audio;
+pub mod cautions;
 pub mod pitch;
 pub mod score;
 pub mod tessitura;
