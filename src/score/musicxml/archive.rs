@@ -30,10 +30,18 @@ pub fn extract_score(path: &Path, bytes: &[u8]) -> Result<(String, Vec<u8>), Sco
         message,
     };
     let mut archive = zip::ZipArchive::new(Cursor::new(bytes)).map_err(|error| {
-        malformed(
-            Location::Whole,
-            format!("not a readable zip archive (.mxl): {error}"),
-        )
+        if error.to_string().contains("EOCD") {
+            // The zip directory sits at the end; without it the file was cut short.
+            malformed(
+                Location::ByteOffset(bytes.len() as u64),
+                "no zip central directory before the end of the file (truncated .mxl?)".into(),
+            )
+        } else {
+            malformed(
+                Location::Whole,
+                format!("not a readable zip archive (.mxl): {error}"),
+            )
+        }
     })?;
     if archive.len() > MAX_ARCHIVE_ENTRIES {
         return Err(ScoreError::TooLarge {

@@ -486,7 +486,9 @@ fn read_part(
         PartKind::Percussion
     } else if sung_sound
         || (voice_named && state.has_lyrics)
-        || name_words.first().is_some_and(|word| VOICE_WORDS.contains(word))
+        || name_words
+            .first()
+            .is_some_and(|word| VOICE_WORDS.contains(word))
     {
         // "Soprano Oboe 1 Violin 1": a choir line doubled by instruments.
         PartKind::Voice

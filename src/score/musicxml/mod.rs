@@ -79,15 +79,19 @@ pub fn read_musicxml(
     };
     let document =
         roxmltree::Document::parse_with_options(text, parse_options).map_err(|error| {
-            let position = error.pos();
-            let message = match error {
+            let (position, message) = match error {
                 roxmltree::Error::NodesLimitReached => {
-                    format!("more than {MAX_XML_NODES} XML nodes")
+                    (error.pos(), format!("more than {MAX_XML_NODES} XML nodes"))
                 }
-                roxmltree::Error::UnexpectedEndOfStream => {
-                    "the XML ends in the middle of the document (truncated file?)".to_string()
-                }
-                other => format!("XML error: {other}"),
+                // roxmltree places these at 1:1; the place is the end.
+                roxmltree::Error::UnclosedRootNode | roxmltree::Error::UnexpectedEndOfStream => (
+                    end_position(text),
+                    format!(
+                        "the XML ends at byte {} before the document is complete (truncated file?)",
+                        text.len()
+                    ),
+                ),
+                other => (other.pos(), format!("XML error: {other}")),
             };
             ScoreError::Malformed {
                 file: path.to_path_buf(),
@@ -100,6 +104,16 @@ pub fn read_musicxml(
         })?;
     let written = measures::read_document(path, &document)?;
     perform::perform(path, written, options)
+}
+
+/// Line and column just past the last character.
+fn end_position(text: &str) -> roxmltree::TextPos {
+    let line = text.bytes().filter(|&byte| byte == b'\n').count() + 1;
+    let last_line = text.rsplit('\n').next().unwrap_or("");
+    roxmltree::TextPos::new(
+        u32::try_from(line).unwrap_or(u32::MAX),
+        u32::try_from(last_line.chars().count() + 1).unwrap_or(u32::MAX),
+    )
 }
 
 /// Reads a compressed MusicXML archive through `META-INF/container.xml`.
