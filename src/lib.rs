@@ -17,3 +17,4 @@ pub mod pitch;
 pub mod score;
 pub mod tessitura;
 pub mod track;
+pub mod voice;

@@ -2,6 +2,7 @@
 //! its arguments, calls the engine and formats text or JSON.
 
 mod parts;
+mod profile;
 mod track;
 
 use clap::{Parser, Subcommand};
@@ -20,11 +21,14 @@ pub enum Command {
     Parts(parts::PartsArgs),
     /// Pitch track (f0 per frame) of a recording.
     Track(track::TrackArgs),
+    /// A singer's profile (range, comfort zone, passaggi, voice type, section) from audition recordings.
+    Profile(profile::ProfileArgs),
 }
 
 pub fn run(cli: Cli) -> anyhow::Result<()> {
     match cli.command {
         Command::Parts(arguments) => parts::run(arguments),
         Command::Track(arguments) => track::run(arguments),
+        Command::Profile(arguments) => profile::run(arguments),
     }
 }

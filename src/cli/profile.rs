@@ -1,0 +1,135 @@
+//! `ambit profile --glide F … --json`: a singer's profile from audition recordings.
+
+use std::path::PathBuf;
+
+use anyhow::bail;
+use clap::Args;
+
+use ambit::pitch::nearest_name;
+use ambit::voice::{PassaggioKind, PassaggioSource, ProfileConfig, Task, load_recordings, profile};
+
+#[derive(Debug, Args)]
+pub struct ProfileArgs {
+    /// Speech recording (reading or counting aloud).
+    #[arg(long, value_name = "FILE")]
+    pub speech: Vec<PathBuf>,
+    /// Glide (siren) recording, up and down.
+    #[arg(long, value_name = "FILE")]
+    pub glide: Vec<PathBuf>,
+    /// Five-note scales through the comfortable range.
+    #[arg(long, value_name = "FILE")]
+    pub scale: Vec<PathBuf>,
+    /// Lowest and highest secure notes, held.
+    #[arg(long, value_name = "FILE")]
+    pub sustain: Vec<PathBuf>,
+    /// A familiar phrase in the singer's own key.
+    #[arg(long, value_name = "FILE")]
+    pub song: Vec<PathBuf>,
+    /// Print the profile as JSON.
+    #[arg(long)]
+    pub json: bool,
+}
+
+pub fn run(arguments: ProfileArgs) -> anyhow::Result<()> {
+    let mut tasks: Vec<(Task, &std::path::Path)> = Vec::new();
+    for (task, files) in [
+        (Task::Speech, &arguments.speech),
+        (Task::Glide, &arguments.glide),
+        (Task::Scale, &arguments.scale),
+        (Task::Sustain, &arguments.sustain),
+        (Task::Song, &arguments.song),
+    ] {
+        tasks.extend(files.iter().map(|file| (task, file.as_path())));
+    }
+    if tasks.is_empty() {
+        bail!("give at least one recording: --speech, --glide, --scale, --sustain or --song FILE");
+    }
+    let recordings = load_recordings(&tasks)
+        .into_iter()
+        .collect::<Result<Vec<_>, _>>()?;
+    let result = profile(&recordings, &ProfileConfig::default())?;
+    if arguments.json {
+        println!("{}", serde_json::to_string_pretty(&result)?);
+        return Ok(());
+    }
+    println!(
+        "Range (held ≥ 1 s)   {} – {}",
+        result.range.low, result.range.high
+    );
+    if let Some(reached) = &result.reached {
+        println!(
+            "Reached in glides    {} – {} (reached, not sustained)",
+            reached.low, reached.high
+        );
+    }
+    println!(
+        "Comfort zone         {} – {}  (confidence {:.0} %)",
+        result.comfort.span.low,
+        result.comfort.span.high,
+        result.comfort.confidence * 100.0
+    );
+    for passaggio in &result.passaggi {
+        let kind = match passaggio.kind {
+            PassaggioKind::Primo => "primo",
+            PassaggioKind::Secondo => "secondo",
+        };
+        let source = match passaggio.source {
+            PassaggioSource::Measured => match (passaggio.upward_midi, passaggio.downward_midi) {
+                (Some(up), Some(down)) => {
+                    format!(
+                        "measured: up {}, down {}",
+                        nearest_name(up),
+                        nearest_name(down)
+                    )
+                }
+                _ => "measured".to_string(),
+            },
+            PassaggioSource::Typical => "typical for the voice type, not measured".to_string(),
+        };
+        println!(
+            "Passaggio ({kind:<7})  {:<4} ({source}; confidence {:.0} %)",
+            passaggio.name,
+            passaggio.confidence * 100.0
+        );
+    }
+    match result.speaking_f0_hz {
+        Some(hz) => println!(
+            "Speaking f0          {hz:.0} Hz ({})",
+            nearest_name(ambit::pitch::hz_to_midi(hz).unwrap_or(0.0))
+        ),
+        None => println!("Speaking f0          — (no speech task)"),
+    }
+    println!(
+        "Voice type           {} ({:.0} %)",
+        result.voice_type.label,
+        result.voice_type.confidence * 100.0
+    );
+    if !result.voice_type.alternatives.is_empty() {
+        let alternatives: Vec<String> = result
+            .voice_type
+            .alternatives
+            .iter()
+            .map(|a| format!("{} {:.0} %", a.label, a.confidence * 100.0))
+            .collect();
+        println!("  alternatives       {}", alternatives.join(", "));
+    }
+    println!(
+        "Section              {} (runner-up {})",
+        result.section, result.section_runner_up
+    );
+    println!("\nWhy:");
+    for reason in &result.reasons {
+        println!("  - {reason}");
+    }
+    if !result.warnings.is_empty() {
+        println!("\nWarnings:");
+        for warning in &result.warnings {
+            println!("  ! {warning}");
+        }
+    }
+    println!("\nPlease keep in mind:");
+    for caution in &result.cautions {
+        println!("  * {caution}");
+    }
+    Ok(())
+}

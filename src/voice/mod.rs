@@ -1,0 +1,938 @@
+//! Singer profiles from an audition: range, comfort zone, passaggi, speaking
+//! f0 and timbre, then a voice type and a choir section with reasons.
+//!
+//! An audition is a set of short recordings, each of one task (speech,
+//! glide, scale, sustain, song; see docs/AUDITION.md). Each recording comes
+//! in as samples plus its f0 track; this module finds stable notes, reads
+//! the range from notes held ≥ 1 s (voice-range-profile practice: Schutte &
+//! Seidner 1983; Patel et al. 2018), the comfort zone from the steady notes
+//! of scales and songs, register breaks from the glides, the speaking f0
+//! from speech, and weighs it all in a transparent likelihood over the
+//! seven voice types.
+//!
+//! Architecture invariant: voice knows nothing about scores, parts or
+//! placement. `profile` is a pure function of the recordings and a config;
+//! only `load_recording` touches files.
+
+pub mod notes;
+pub mod registers;
+pub mod timbre;
+pub mod types;
+
+use std::path::Path;
+
+use rayon::prelude::*;
+use serde::{Deserialize, Serialize};
+use thiserror::Error;
+
+use crate::audio::{self, DecodeOptions};
+use crate::cautions::cautions;
+use crate::pitch::{Tuning, hz_to_midi, nearest_name};
+use crate::track::{self, Track, TrackConfig};
+
+use notes::{SegmentConfig, SungNote, segment_notes};
+use registers::{BreakConfig, find_breaks, group_breaks};
+use timbre::{SpectralMeasures, SpectrumAnalyser, median_measures};
+use types::{Evidence, VoiceType, classify, rank_sections};
+
+/// Sample rate recordings are analysed at.
+pub const PROFILE_SAMPLE_RATE: u32 = 22_050;
+
+/// The audition tasks.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Hash, PartialOrd, Ord, Serialize, Deserialize)]
+#[serde(rename_all = "snake_case")]
+pub enum Task {
+    Speech,
+    Glide,
+    Scale,
+    Sustain,
+    Song,
+}
+
+impl Task {
+    pub const ALL: [Task; 5] = [
+        Task::Speech,
+        Task::Glide,
+        Task::Scale,
+        Task::Sustain,
+        Task::Song,
+    ];
+
+    pub fn label(self) -> &'static str {
+        match self {
+            Task::Speech => "speech",
+            Task::Glide => "glide",
+            Task::Scale => "scale",
+            Task::Sustain => "sustain",
+            Task::Song => "song",
+        }
+    }
+
+    fn is_sung(self) -> bool {
+        self != Task::Speech
+    }
+}
+
+/// One task recording, decoded and tracked.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+pub struct Recording {
+    pub task: Task,
+    /// Where it came from, for messages.
+    pub file: String,
+    pub samples: Vec<f32>,
+    pub sample_rate: u32,
+    pub track: Track,
+    /// Clipping and noise lower the confidence of what is measured.
+    pub clipped_share: f64,
+    pub noise_floor_db: f64,
+    pub warnings: Vec<String>,
+}
+
+/// Profile settings.
+#[derive(Debug, Clone, Copy, PartialEq, Serialize, Deserialize)]
+pub struct ProfileConfig {
+    pub tuning: Tuning,
+    pub segment: SegmentConfig,
+    pub breaks: BreakConfig,
+    /// A pitch counts for the range when held at least this long within
+    /// ±`segment.tolerance_cents` (voice-range-profile practice: 1 s).
+    pub sustain_min_seconds: f64,
+    /// Below this f0 an irregular note is vocal fry and is left out of the
+    /// singing range (fry typically lies below ~70 Hz: common practice).
+    pub fry_max_hz: f64,
+    /// Frame-to-frame irregularity (cents RMS) above which a low note is fry.
+    pub fry_irregularity_cents: f64,
+    /// A comfort-zone note must drift less than this (cents SD)...
+    pub steady_drift_cents: f64,
+    /// ...and keep its level within this SD (dB).
+    pub steady_level_sd_db: f64,
+}
+
+impl Default for ProfileConfig {
+    fn default() -> Self {
+        ProfileConfig {
+            tuning: Tuning::default(),
+            segment: SegmentConfig::default(),
+            breaks: BreakConfig::default(),
+            sustain_min_seconds: 1.0,
+            fry_max_hz: 70.0,
+            fry_irregularity_cents: 40.0,
+            steady_drift_cents: 25.0,
+            steady_level_sd_db: 4.0,
+        }
+    }
+}
+
+/// A pitch span with names.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+pub struct PitchSpan {
+    pub low_midi: f64,
+    pub high_midi: f64,
+    pub low: String,
+    pub high: String,
+}
+
+impl PitchSpan {
+    pub fn new(low_midi: f64, high_midi: f64) -> PitchSpan {
+        PitchSpan {
+            low_midi,
+            high_midi,
+            low: nearest_name(low_midi),
+            high: nearest_name(high_midi),
+        }
+    }
+}
+
+/// The comfort zone and how sure it is.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+pub struct Comfort {
+    #[serde(flatten)]
+    pub span: PitchSpan,
+    pub confidence: f64,
+    /// How it was found, in a sentence.
+    pub basis: String,
+}
+
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize, Deserialize)]
+#[serde(rename_all = "snake_case")]
+pub enum PassaggioKind {
+    Primo,
+    Secondo,
+}
+
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize, Deserialize)]
+#[serde(rename_all = "snake_case")]
+pub enum PassaggioSource {
+    /// Found in this singer's glides.
+    Measured,
+    /// The usual value for the likely voice type: not measured.
+    Typical,
+}
+
+/// A passaggio, measured or typical.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+pub struct Passaggio {
+    pub midi: f64,
+    pub name: String,
+    pub kind: PassaggioKind,
+    pub source: PassaggioSource,
+    pub confidence: f64,
+    /// For measured ones: where the glides broke going up and coming down.
+    pub upward_midi: Option<f64>,
+    pub downward_midi: Option<f64>,
+}
+
+/// A ranked voice type.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+pub struct TypeShare {
+    pub label: String,
+    pub confidence: f64,
+}
+
+/// The suggested voice type and its alternatives.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+pub struct VoiceTypeResult {
+    pub label: String,
+    pub confidence: f64,
+    pub alternatives: Vec<TypeShare>,
+}
+
+/// A singer's profile from one audition.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+pub struct Profile {
+    /// Lowest and highest pitch held ≥ 1 s (fry excluded).
+    pub range: PitchSpan,
+    /// Lower when no note was held the full time.
+    pub range_confidence: f64,
+    pub comfort: Comfort,
+    /// Glide extremes: reached, not sustained.
+    pub reached: Option<PitchSpan>,
+    pub passaggi: Vec<Passaggio>,
+    pub speaking_f0_hz: Option<f64>,
+    pub timbre: Option<SpectralMeasures>,
+    pub voice_type: VoiceTypeResult,
+    pub section: String,
+    pub section_runner_up: String,
+    pub reasons: Vec<String>,
+    pub cautions: Vec<String>,
+    /// Tasks with no usable recording.
+    pub missing_tasks: Vec<Task>,
+    /// Problems with recordings, contradictions between tasks.
+    pub warnings: Vec<String>,
+}
+
+impl Profile {
+    pub fn passaggio(&self, kind: PassaggioKind) -> Option<&Passaggio> {
+        self.passaggi.iter().find(|p| p.kind == kind)
+    }
+}
+
+#[derive(Debug, Error)]
+pub enum VoiceError {
+    #[error(
+        "no recordings were given: an audition needs at least one sung task (glide, scale, sustain or song)"
+    )]
+    NoRecordings,
+    #[error("{file}: {message}")]
+    Load { file: String, message: String },
+    #[error("no usable singing in the audition: {0}")]
+    NoSinging(String),
+}
+
+/// Decodes and tracks one task recording.
+pub fn load_recording(task: Task, path: &Path) -> Result<Recording, VoiceError> {
+    let file = path.display().to_string();
+    let load_error = |message: String| VoiceError::Load {
+        file: file.clone(),
+        message,
+    };
+    let decoded = audio::decode_file(
+        path,
+        &DecodeOptions {
+            target_sample_rate: Some(PROFILE_SAMPLE_RATE),
+        },
+    )
+    .map_err(|error| load_error(format!("{} task: {error}", task.label())))?;
+    let track = track::track_samples(
+        &decoded.samples,
+        decoded.sample_rate,
+        &TrackConfig::default(),
+    )
+    .map_err(|error| load_error(format!("{} task: {error}", task.label())))?;
+    Ok(Recording {
+        task,
+        file: file.clone(),
+        samples: decoded.samples,
+        sample_rate: decoded.sample_rate,
+        track,
+        clipped_share: decoded.report.clipped_share,
+        noise_floor_db: decoded.report.noise_floor_db,
+        warnings: decoded.report.warnings,
+    })
+}
+
+/// Loads several recordings in parallel, keeping their order.
+pub fn load_recordings(tasks: &[(Task, &Path)]) -> Vec<Result<Recording, VoiceError>> {
+    tasks
+        .par_iter()
+        .map(|(task, path)| load_recording(*task, path))
+        .collect()
+}
+
+/// Notes of one recording with the recording they came from.
+struct Analysed<'a> {
+    recording: &'a Recording,
+    notes: Vec<SungNote>,
+}
+
+fn weighted_percentile(mut items: Vec<(f64, f64)>, p: f64) -> Option<f64> {
+    items.sort_by(|a, b| a.0.total_cmp(&b.0));
+    let total: f64 = items.iter().map(|(_, w)| w).sum();
+    if total <= 0.0 {
+        return None;
+    }
+    let mut cumulative = 0.0;
+    for (value, weight) in &items {
+        cumulative += weight;
+        if cumulative >= p / 100.0 * total - 1e-12 {
+            return Some(*value);
+        }
+    }
+    items.last().map(|(value, _)| *value)
+}
+
+/// Builds a profile from an audition's recordings.
+pub fn profile(recordings: &[Recording], config: &ProfileConfig) -> Result<Profile, VoiceError> {
+    if recordings.is_empty() {
+        return Err(VoiceError::NoRecordings);
+    }
+    let mut warnings = Vec::new();
+    let mut quality = 1.0_f64;
+    for recording in recordings {
+        for warning in &recording.warnings {
+            warnings.push(format!(
+                "{} ({}): {warning}",
+                recording.file,
+                recording.task.label()
+            ));
+        }
+        // Clipping above 1 % or a noise floor above −35 dBFS makes every
+        // measured figure less certain.
+        if recording.clipped_share > 0.01 || recording.noise_floor_db > -35.0 {
+            quality = quality.min(0.75);
+        }
+    }
+
+    let analysed: Vec<Analysed> = recordings
+        .iter()
+        .map(|recording| Analysed {
+            recording,
+            notes: segment_notes(&recording.track.frames, &config.tuning, &config.segment),
+        })
+        .collect();
+
+    // Recordings that were meant to be sung but hold no singing.
+    let mut usable_tasks = Vec::new();
+    for item in &analysed {
+        let recording = item.recording;
+        let voiced_seconds = recording.track.frames.iter().filter(|f| f.voiced).count() as f64
+            * recording.track.hop_seconds;
+        let noted_seconds: f64 = item.notes.iter().map(SungNote::seconds).sum();
+        let task = recording.task.label();
+        if voiced_seconds < 0.3 {
+            warnings.push(format!(
+                "{} ({task}): no voice found (only {voiced_seconds:.1} s voiced); this recording was left out",
+                recording.file
+            ));
+            continue;
+        }
+        if recording.task.is_sung()
+            && recording.task != Task::Glide
+            && noted_seconds < 0.3 * voiced_seconds
+        {
+            warnings.push(format!(
+                "{} ({task}): the voice never settles on a pitch ({noted_seconds:.1} of {voiced_seconds:.1} s voiced are held notes); it sounds like speech or gliding, not singing, and was left out",
+                recording.file
+            ));
+            continue;
+        }
+        usable_tasks.push(recording.task);
+    }
+    let usable = |item: &&Analysed| usable_tasks.contains(&item.recording.task);
+    let missing_tasks: Vec<Task> = Task::ALL
+        .into_iter()
+        .filter(|task| !usable_tasks.contains(task))
+        .collect();
+    if !missing_tasks.is_empty() {
+        let names: Vec<&str> = missing_tasks.iter().map(|t| t.label()).collect();
+        warnings.push(format!(
+            "missing tasks: {}; the profile is less certain",
+            names.join(", ")
+        ));
+    }
+
+    // Range: notes held ≥ sustain_min_seconds in any sung task, fry excluded.
+    let fry_midi = hz_to_midi(config.fry_max_hz).unwrap_or(37.0);
+    let is_fry = |note: &SungNote| {
+        note.midi < fry_midi && note.irregularity_cents > config.fry_irregularity_cents
+    };
+    let sung_notes: Vec<&SungNote> = analysed
+        .iter()
+        .filter(usable)
+        .filter(|item| item.recording.task.is_sung())
+        .flat_map(|item| item.notes.iter())
+        .filter(|note| !is_fry(note) && note.midi >= 33.0)
+        .collect();
+    let mut held: Vec<&SungNote> = sung_notes
+        .iter()
+        .copied()
+        .filter(|note| note.seconds() >= config.sustain_min_seconds)
+        .collect();
+    let mut range_confidence = 0.9;
+    if held.is_empty() {
+        held = sung_notes
+            .iter()
+            .copied()
+            .filter(|note| note.seconds() >= 0.5)
+            .collect();
+        range_confidence = 0.5;
+        if !held.is_empty() {
+            warnings.push(format!(
+                "no note was held for {:.1} s; the range comes from notes held at least 0.5 s",
+                config.sustain_min_seconds
+            ));
+        }
+    }
+    let files: Vec<&str> = recordings.iter().map(|r| r.file.as_str()).collect();
+    let (low, high) = held
+        .iter()
+        .fold(None, |span: Option<(f64, f64)>, note| {
+            Some(span.map_or((note.midi, note.midi), |(l, h)| (l.min(note.midi), h.max(note.midi))))
+        })
+        .ok_or_else(|| {
+            VoiceError::NoSinging(format!(
+                "no held sung note was found in {}; the singer needs to hold notes (sustain, scale or song tasks)",
+                files.join(", ")
+            ))
+        })?;
+    let range = PitchSpan::new(low, high);
+
+    // Glide extremes: reached, not sustained (held at least 0.1 s).
+    let glide_points: Vec<f64> = analysed
+        .iter()
+        .filter(usable)
+        .filter(|item| item.recording.task == Task::Glide)
+        .flat_map(|item| {
+            item.recording
+                .track
+                .frames
+                .iter()
+                .filter(|f| f.voiced)
+                .filter_map(|f| config.tuning.hz_to_midi(f.f0_hz?))
+        })
+        .collect();
+    let reached = if glide_points.len() >= 20 {
+        let weights: Vec<(f64, f64)> = glide_points.iter().map(|&m| (m, 1.0)).collect();
+        let low = weighted_percentile(weights.clone(), 1.0);
+        let high = weighted_percentile(weights, 99.0);
+        low.zip(high).map(|(l, h)| PitchSpan::new(l, h))
+    } else {
+        None
+    };
+    if let Some(reach) = &reached {
+        if reach.high_midi > range.high_midi + 7.0 {
+            warnings.push(format!(
+                "the glide reached {} but no held note went above {}: the top may be unsecured, or the glide has tracking errors",
+                reach.high, range.high
+            ));
+        }
+        if reach.low_midi < range.low_midi - 7.0 {
+            warnings.push(format!(
+                "the glide went down to {} but no held note went below {}",
+                reach.low, range.low
+            ));
+        }
+    }
+
+    // Comfort zone: steady notes of scales and songs.
+    let steady: Vec<(f64, f64)> = analysed
+        .iter()
+        .filter(usable)
+        .filter(|item| matches!(item.recording.task, Task::Scale | Task::Song))
+        .flat_map(|item| item.notes.iter())
+        .filter(|note| !is_fry(note))
+        .filter(|note| {
+            note.drift_cents <= config.steady_drift_cents
+                && note.level_sd_db <= config.steady_level_sd_db
+        })
+        .map(|note| (note.midi, note.seconds()))
+        .collect();
+    let steady_seconds: f64 = steady.iter().map(|(_, s)| s).sum();
+    let comfort = if steady_seconds >= 2.0 {
+        let low = weighted_percentile(steady.clone(), 5.0).unwrap_or(range.low_midi);
+        let high = weighted_percentile(steady, 95.0).unwrap_or(range.high_midi);
+        // The comfort zone lies inside the sustained range; its top stays at
+        // least a semitone under the highest held note (common practice).
+        let high = high.min(range.high_midi - 1.0).max(range.low_midi);
+        let low = low.max(range.low_midi).min(high);
+        let has_scale = usable_tasks.contains(&Task::Scale);
+        let has_song = usable_tasks.contains(&Task::Song);
+        let confidence = (0.45
+            + 0.3 * (steady_seconds / 15.0).min(1.0)
+            + if has_scale { 0.1 } else { 0.0 }
+            + if has_song { 0.1 } else { 0.0 })
+            * quality;
+        Comfort {
+            span: PitchSpan::new(low, high),
+            confidence: confidence.min(0.95),
+            basis: format!(
+                "the middle 90 % of {steady_seconds:.1} s of steady notes in the scale and song tasks, kept inside the held range"
+            ),
+        }
+    } else {
+        // No scales or songs: a comfort zone a few semitones inside the
+        // range (common practice, from memory: about a third below the top
+        // and a minor third above the bottom).
+        let low = (range.low_midi + 3.0).min(range.high_midi);
+        let high = (range.high_midi - 4.0).max(low);
+        Comfort {
+            span: PitchSpan::new(low, high),
+            confidence: 0.3 * quality,
+            basis: "no scale or song to measure it from: estimated as a minor third above the lowest and a major third below the highest held note".into(),
+        }
+    };
+
+    // Speaking f0: median of the speech task's voiced frames.
+    let mut speech: Vec<f64> = analysed
+        .iter()
+        .filter(usable)
+        .filter(|item| item.recording.task == Task::Speech)
+        .flat_map(|item| {
+            item.recording
+                .track
+                .frames
+                .iter()
+                .filter(|f| f.voiced)
+                .filter_map(|f| f.f0_hz)
+        })
+        .collect();
+    speech.sort_by(f64::total_cmp);
+    let speaking_f0_hz = speech.get(speech.len() / 2).copied();
+
+    // Timbre: median spectral measures over sung voiced frames, every 50 ms.
+    let mut measures = Vec::new();
+    for item in analysed
+        .iter()
+        .filter(usable)
+        .filter(|item| item.recording.task.is_sung())
+    {
+        let recording = item.recording;
+        let mut analyser = SpectrumAnalyser::new(recording.sample_rate);
+        let step = ((0.05 / recording.track.hop_seconds.max(1e-3)).round() as usize).max(1);
+        for frame in recording.track.frames.iter().step_by(step) {
+            if let (true, Some(f0)) = (frame.voiced, frame.f0_hz)
+                && let Some(measure) = analyser.measure(&recording.samples, frame.time, f0)
+            {
+                measures.push(measure);
+            }
+            if measures.len() >= 2000 {
+                break;
+            }
+        }
+    }
+    let timbre = median_measures(&measures);
+
+    // Register breaks in the glides.
+    let breaks: Vec<_> = analysed
+        .iter()
+        .filter(usable)
+        .filter(|item| item.recording.task == Task::Glide)
+        .flat_map(|item| {
+            let r = item.recording;
+            find_breaks(
+                &r.track.frames,
+                &r.samples,
+                r.sample_rate,
+                &config.tuning,
+                &config.breaks,
+            )
+        })
+        .collect();
+    let measured = group_breaks(&breaks, 3.0);
+
+    // First pass: classify without passaggi, to know which table row to
+    // label measured breaks against.
+    let mut evidence = Evidence {
+        range_low_midi: Some(range.low_midi),
+        range_high_midi: Some(range.high_midi),
+        comfort_low_midi: Some(comfort.span.low_midi),
+        comfort_high_midi: Some(comfort.span.high_midi),
+        primo_midi: None,
+        secondo_midi: None,
+        speaking_f0_hz,
+        centroid_hz: timbre.map(|t| t.centroid_hz),
+    };
+    let first = classify(&evidence);
+    let likely = first.ranked[0].voice_type;
+    let typical = likely.typical();
+
+    let mut passaggi: Vec<Passaggio> = Vec::new();
+    for candidate in measured.iter().take(3) {
+        let kind = if (candidate.midi - typical.primo_midi).abs()
+            <= (candidate.midi - typical.secondo_midi).abs()
+        {
+            PassaggioKind::Primo
+        } else {
+            PassaggioKind::Secondo
+        };
+        if passaggi.iter().any(|p| p.kind == kind) {
+            continue;
+        }
+        passaggi.push(Passaggio {
+            midi: candidate.midi,
+            name: nearest_name(candidate.midi),
+            kind,
+            source: PassaggioSource::Measured,
+            confidence: candidate.confidence * quality,
+            upward_midi: candidate.upward_midi,
+            downward_midi: candidate.downward_midi,
+        });
+    }
+    for passaggio in &passaggi {
+        match passaggio.kind {
+            PassaggioKind::Primo => evidence.primo_midi = Some(passaggio.midi),
+            PassaggioKind::Secondo => evidence.secondo_midi = Some(passaggio.midi),
+        }
+    }
+    let classification = classify(&evidence);
+    let best = classification.ranked[0].voice_type;
+    let best_typical = best.typical();
+    let type_confidence = classification.ranked[0].confidence * quality;
+    for (kind, midi) in [
+        (PassaggioKind::Primo, best_typical.primo_midi),
+        (PassaggioKind::Secondo, best_typical.secondo_midi),
+    ] {
+        if !passaggi.iter().any(|p| p.kind == kind) {
+            passaggi.push(Passaggio {
+                midi,
+                name: nearest_name(midi),
+                kind,
+                source: PassaggioSource::Typical,
+                confidence: 0.5 * type_confidence,
+                upward_midi: None,
+                downward_midi: None,
+            });
+        }
+    }
+    passaggi.sort_by(|a, b| a.midi.total_cmp(&b.midi));
+
+    // Section: the best of the sections a voice of this type sings in.
+    let allowed: &[&str] = match best {
+        VoiceType::Bass | VoiceType::Baritone => &["B1", "B2", "T2"],
+        VoiceType::Tenor => &["T1", "T2", "B1"],
+        VoiceType::Countertenor => &["A1", "A2", "T1"],
+        VoiceType::Contralto | VoiceType::MezzoSoprano | VoiceType::Soprano => {
+            &["S1", "S2", "A1", "A2"]
+        }
+    };
+    let ranked_sections: Vec<_> = rank_sections(comfort.span.low_midi, comfort.span.high_midi)
+        .into_iter()
+        .filter(|choice| allowed.contains(&choice.section.as_str()))
+        .collect();
+    let section = ranked_sections
+        .first()
+        .map_or_else(String::new, |c| c.section.clone());
+    let section_runner_up = ranked_sections
+        .get(1)
+        .map_or_else(String::new, |c| c.section.clone());
+
+    let mut reasons = classification.reasons.clone();
+    for passaggio in passaggi
+        .iter()
+        .filter(|p| p.source == PassaggioSource::Typical)
+    {
+        reasons.push(format!(
+            "{} passaggio not measured (no clear break in the glides); {} is typical of a {} ({}), not measured",
+            match passaggio.kind {
+                PassaggioKind::Primo => "primo",
+                PassaggioKind::Secondo => "secondo",
+            },
+            passaggio.name,
+            best.label(),
+            best_typical.passaggi_source,
+        ));
+    }
+    if let Some(choice) = ranked_sections.first() {
+        reasons.push(format!(
+            "section {}: its usual tessitura sits best in the comfort zone {}–{} (runner-up {})",
+            choice.section, comfort.span.low, comfort.span.high, section_runner_up
+        ));
+    }
+
+    let alternatives = classification.ranked[1..]
+        .iter()
+        .filter(|c| c.confidence >= 0.01)
+        .map(|c| TypeShare {
+            label: c.voice_type.label().into(),
+            confidence: c.confidence * quality,
+        })
+        .collect();
+    let mut profile_cautions = cautions();
+    profile_cautions.push("This profile is provisional: re-check it after a few rehearsals, and sooner for a young or changing voice.".into());
+
+    Ok(Profile {
+        range,
+        range_confidence: range_confidence * quality,
+        comfort,
+        reached,
+        passaggi,
+        speaking_f0_hz,
+        timbre,
+        voice_type: VoiceTypeResult {
+            label: best.label().into(),
+            confidence: type_confidence,
+            alternatives,
+        },
+        section,
+        section_runner_up,
+        reasons,
+        cautions: profile_cautions,
+        missing_tasks,
+        warnings,
+    })
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use crate::track::Frame;
+
+    const HOP: f64 = 0.01;
+
+    fn hz(midi: f64) -> f64 {
+        440.0 * 2f64.powf((midi - 69.0) / 12.0)
+    }
+
+    /// A recording whose f0 track follows `contour` (MIDI, or `None` for unvoiced).
+    fn recording(task: Task, seconds: f64, contour: impl Fn(f64) -> Option<f64>) -> Recording {
+        let frames = (0..(seconds / HOP) as usize)
+            .map(|i| {
+                let time = i as f64 * HOP;
+                let f0_hz = contour(time).map(hz);
+                Frame {
+                    time,
+                    f0_hz,
+                    voiced: f0_hz.is_some(),
+                    confidence: if f0_hz.is_some() { 0.95 } else { 0.05 },
+                    level_db: -18.0,
+                }
+            })
+            .collect();
+        Recording {
+            task,
+            file: format!("{}.wav", task.label()),
+            samples: Vec::new(),
+            sample_rate: PROFILE_SAMPLE_RATE,
+            track: Track {
+                sample_rate: PROFILE_SAMPLE_RATE,
+                hop_seconds: HOP,
+                frames,
+            },
+            clipped_share: 0.0,
+            noise_floor_db: -70.0,
+            warnings: Vec::new(),
+        }
+    }
+
+    /// Notes one after another, each `(midi, seconds)`, with 0.1 s breaths.
+    fn sung(task: Task, notes: &[(f64, f64)]) -> Recording {
+        let mut spans = Vec::new();
+        let mut t = 0.1;
+        for &(midi, seconds) in notes {
+            spans.push((t, t + seconds, midi));
+            t += seconds + 0.1;
+        }
+        recording(task, t + 0.1, move |time| {
+            spans
+                .iter()
+                .find(|(start, end, _)| time >= *start && time < *end)
+                .map(|&(_, _, midi)| midi + 0.3 * (2.0 * std::f64::consts::PI * 6.0 * time).sin())
+        })
+    }
+
+    /// A tenor-like audition: holds C3 and B4 (48, 71), scales over E3–G4,
+    /// a siren breaking up at G#4 and down at F#4, speech at 125 Hz.
+    fn tenor_audition() -> Vec<Recording> {
+        let scale: Vec<(f64, f64)> = [
+            52.0, 54.0, 56.0, 57.0, 59.0, 57.0, 56.0, 54.0, 52.0, 59.0, 61.0, 63.0, 64.0, 66.0,
+            67.0, 66.0, 64.0, 63.0, 61.0, 59.0,
+        ]
+        .iter()
+        .map(|&m| (m, 0.5))
+        .collect();
+        let glide = recording(Task::Glide, 6.0, |t| {
+            let up = t < 3.0;
+            let smooth = if up {
+                48.0 + 24.0 * t / 3.0
+            } else {
+                72.0 - 24.0 * (t - 3.0) / 3.0
+            };
+            let (break_up, break_down) = (68.0, 66.0);
+            Some(
+                if (up && smooth >= break_up) || (!up && smooth >= break_down) {
+                    smooth + 2.0
+                } else {
+                    smooth
+                },
+            )
+        });
+        let speech = recording(Task::Speech, 3.0, |t| {
+            let syllable = (t * 4.0).fract() < 0.7;
+            syllable.then(|| hz_to_midi(125.0).unwrap() + 1.5 * (t * 4.0).fract() - 0.04 * t * 12.0)
+        });
+        vec![
+            speech,
+            glide,
+            sung(Task::Scale, &scale),
+            sung(Task::Sustain, &[(48.0, 2.0), (71.0, 2.0)]),
+            sung(
+                Task::Song,
+                &[
+                    (55.0, 0.6),
+                    (57.0, 0.6),
+                    (59.0, 1.2),
+                    (62.0, 0.6),
+                    (60.0, 0.6),
+                    (59.0, 1.2),
+                ],
+            ),
+        ]
+    }
+
+    #[test]
+    fn a_tenor_audition_reads_as_a_tenor() {
+        let profile = profile(&tenor_audition(), &ProfileConfig::default()).unwrap();
+        // The held extremes C3 and B4 are the range (voice-range-profile
+        // practice: sustained ≥ 1 s).
+        assert!(
+            (profile.range.low_midi - 48.0).abs() < 0.5,
+            "{:?}",
+            profile.range
+        );
+        assert!(
+            (profile.range.high_midi - 71.0).abs() < 0.5,
+            "{:?}",
+            profile.range
+        );
+        // The steady scale and song notes span E3–G4.
+        assert!(
+            (profile.comfort.span.low_midi - 52.0).abs() <= 1.0,
+            "{:?}",
+            profile.comfort
+        );
+        assert!(
+            (profile.comfort.span.high_midi - 67.0).abs() <= 1.0,
+            "{:?}",
+            profile.comfort
+        );
+        // The glide broke at G#4 going up (68→70, midpoint 69) and F#4 coming
+        // down (midpoint 67): a measured passaggio near G#4, typical of a
+        // tenor's secondo (Miller: G4).
+        let secondo = profile.passaggio(PassaggioKind::Secondo).unwrap();
+        assert_eq!(secondo.source, PassaggioSource::Measured);
+        assert!((secondo.midi - 68.0).abs() <= 1.0, "{secondo:?}");
+        assert!(secondo.upward_midi.unwrap() > secondo.downward_midi.unwrap());
+        let primo = profile.passaggio(PassaggioKind::Primo).unwrap();
+        assert_eq!(primo.source, PassaggioSource::Typical);
+        assert_eq!(
+            profile.voice_type.label, "tenor",
+            "{:?}",
+            profile.voice_type
+        );
+        assert!(profile.section.starts_with('T'), "{}", profile.section);
+        let speaking = profile.speaking_f0_hz.unwrap();
+        assert!((100.0..150.0).contains(&speaking), "{speaking}");
+        assert!(profile.missing_tasks.is_empty());
+        assert!(profile.cautions.iter().any(|c| c.contains("not a medical")));
+        assert!(!profile.reasons.is_empty());
+    }
+
+    #[test]
+    fn missing_tasks_degrade_gracefully() {
+        // Without the glide the passaggi are typical, not measured; without
+        // speech there is no speaking f0; the output says what was missing.
+        let recordings: Vec<Recording> = tenor_audition()
+            .into_iter()
+            .filter(|r| !matches!(r.task, Task::Glide | Task::Speech))
+            .collect();
+        let profile = profile(&recordings, &ProfileConfig::default()).unwrap();
+        assert!(
+            profile
+                .passaggi
+                .iter()
+                .all(|p| p.source == PassaggioSource::Typical)
+        );
+        assert_eq!(profile.speaking_f0_hz, None);
+        assert_eq!(profile.missing_tasks, vec![Task::Speech, Task::Glide]);
+        assert!(
+            profile
+                .warnings
+                .iter()
+                .any(|w| w.contains("missing tasks: speech, glide"))
+        );
+    }
+
+    #[test]
+    fn no_recordings_or_no_singing_is_an_error() {
+        assert!(matches!(
+            profile(&[], &ProfileConfig::default()),
+            Err(VoiceError::NoRecordings)
+        ));
+        let silent = recording(Task::Sustain, 3.0, |_| None);
+        let error = profile(&[silent], &ProfileConfig::default()).unwrap_err();
+        assert!(matches!(error, VoiceError::NoSinging(_)));
+        assert!(error.to_string().contains("sustain.wav"), "{error}");
+    }
+
+    #[test]
+    fn speech_where_singing_was_asked_is_reported() {
+        let mut recordings = tenor_audition();
+        // The "song" file holds speech.
+        // Syllables of 0.175 s with unvoiced gaps, each falling two
+        // semitones: the pitch never holds still the way a sung note does.
+        let speech_like = recording(Task::Song, 3.0, |t| {
+            let position = (t * 4.0).fract();
+            (position < 0.7).then(|| 50.0 - 2.0 * position / 0.7)
+        });
+        recordings.retain(|r| r.task != Task::Song);
+        recordings.push(speech_like);
+        let profile = profile(&recordings, &ProfileConfig::default()).unwrap();
+        assert!(
+            profile
+                .warnings
+                .iter()
+                .any(|w| w.contains("song.wav (song)") && w.contains("not singing")),
+            "{:?}",
+            profile.warnings
+        );
+        assert!(profile.missing_tasks.contains(&Task::Song));
+    }
+
+    #[test]
+    fn a_glide_far_above_every_held_note_is_reported() {
+        let mut recordings = tenor_audition();
+        recordings.retain(|r| r.task != Task::Glide);
+        recordings.push(recording(Task::Glide, 4.0, |t| {
+            Some(50.0 + 30.0 * (t / 4.0))
+        }));
+        let profile = profile(&recordings, &ProfileConfig::default()).unwrap();
+        assert!(
+            profile
+                .warnings
+                .iter()
+                .any(|w| w.contains("the glide reached")),
+            "{:?}",
+            profile.warnings
+        );
+    }
+}
