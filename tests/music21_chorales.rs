@@ -108,9 +108,9 @@ fn chorales_as_written_agree_with_music21() {
 
 #[test]
 fn chorales_with_repeats_unrolled_agree_with_music21_expand_repeats() {
-    let Some(python) =
-        common::reference_python("chorales_with_repeats_unrolled_agree_with_music21_expand_repeats")
-    else {
+    let Some(python) = common::reference_python(
+        "chorales_with_repeats_unrolled_agree_with_music21_expand_repeats",
+    ) else {
         return;
     };
     let reference = common::run_reference(
@@ -127,7 +127,10 @@ fn chorales_with_repeats_unrolled_agree_with_music21_expand_repeats() {
         .filter(|file| !file["error"].is_null())
         .collect();
     if !failed.is_empty() {
-        eprintln!("music21 expandRepeats() failed on {} chorales", failed.len());
+        eprintln!(
+            "music21 expandRepeats() failed on {} chorales",
+            failed.len()
+        );
     }
     let (compared, problems) = compare(&reference, true);
     assert!(compared >= 50, "only {compared} chorales compared");
