@@ -511,3 +511,39 @@ fn compressed_mxl_is_read_through_its_container() {
         .unwrap_or_else(|error| panic!("{error}"));
     assert_eq!(numbers(&piece), vec!["1", "2", "3", "1", "2", "4", "5"]);
 }
+
+#[test]
+fn an_ending_for_passes_one_and_two_gives_three_passes() {
+    // Ending "1, 2" then ending "3" (MusicXML <ending number="1, 2">): the
+    // section is played three times, the shared ending twice, then the third.
+    let whole = |step: &str| format!("<note>{}<duration>4</duration></note>", pitch(step, 4));
+    let xml = one_part(&format!(
+        r#"<measure number="1"><attributes><divisions>1</divisions></attributes>
+          <barline location="left"><repeat direction="forward"/></barline>{c}</measure>
+        <measure number="2"><barline location="left"><ending number="1, 2" type="start"/></barline>{d}
+          <barline location="right"><ending number="1, 2" type="stop"/><repeat direction="backward"/></barline></measure>
+        <measure number="3"><barline location="left"><ending number="3" type="start"/></barline>{e}
+          <barline location="right"><ending number="3" type="stop"/></barline></measure>"#,
+        c = whole("C"),
+        d = whole("D"),
+        e = whole("E"),
+    ));
+    assert_eq!(numbers(&read(&xml)), vec!["1", "2", "1", "2", "1", "3"]);
+}
+
+#[test]
+fn dal_segno_al_coda_jumps_to_the_segno_then_to_the_coda() {
+    // <sound segno>, <sound dalsegno>, <sound tocoda>, <sound coda>
+    // (MusicXML <sound>): 1 2 3 4, back to the segno at 2, play 2, jump from
+    // To Coda at 2 to the coda at 5.
+    let note = format!("<note>{}<duration>4</duration></note>", pitch("B", 3));
+    let xml = one_part(&format!(
+        r#"<measure number="1"><attributes><divisions>1</divisions></attributes>{note}</measure>
+        <measure number="2"><direction><direction-type><segno/></direction-type><sound segno="s"/></direction>{note}
+          <direction><direction-type><words>To Coda</words></direction-type><sound tocoda="c"/></direction></measure>
+        <measure number="3">{note}</measure>
+        <measure number="4">{note}<direction><direction-type><words>D.S. al Coda</words></direction-type><sound dalsegno="s"/></direction></measure>
+        <measure number="5"><direction><direction-type><coda/></direction-type><sound coda="c"/></direction>{note}</measure>"#
+    ));
+    assert_eq!(numbers(&read(&xml)), vec!["1", "2", "3", "4", "2", "5"]);
+}

@@ -12,6 +12,7 @@
 //! Invariant: positions stay in written order here (no repeats, no seconds);
 //! the tree is walked iteratively over children, never recursively over depth.
 
+use std::collections::HashMap;
 use std::path::Path;
 
 use roxmltree::{Document, Node};
@@ -197,15 +198,20 @@ pub fn read_document(file: &Path, document: &Document) -> Result<Written, ScoreE
 
     // (part id, [(measure element, element holding the measure's content)])
     let mut sequences: Vec<(String, Vec<(Node, Node)>)> = Vec::new();
+    // Index by id: a hostile file may list very many parts.
+    let mut positions: HashMap<&str, usize> = HashMap::new();
     if timewise {
         // score-timewise: measure > part. Converted to the partwise view by
         // collecting each part's content in measure order.
         for measure in root.children().filter(|node| node.has_tag_name("measure")) {
             for part in measure.children().filter(|node| node.has_tag_name("part")) {
-                let id = part.attribute("id").unwrap_or("").to_string();
-                match sequences.iter_mut().find(|(known, _)| *known == id) {
-                    Some((_, measures)) => measures.push((measure, part)),
-                    None => sequences.push((id, vec![(measure, part)])),
+                let id = part.attribute("id").unwrap_or("");
+                match positions.get(id) {
+                    Some(&position) => sequences[position].1.push((measure, part)),
+                    None => {
+                        positions.insert(id, sequences.len());
+                        sequences.push((id.to_string(), vec![(measure, part)]));
+                    }
                 }
             }
         }
@@ -227,8 +233,13 @@ pub fn read_document(file: &Path, document: &Document) -> Result<Written, ScoreE
             message: "the score has no <part>".into(),
         });
     }
+    let list_index: HashMap<&str, &PartListEntry> = list
+        .iter()
+        .rev()
+        .map(|entry| (entry.id.as_str(), entry))
+        .collect();
     for (id, measures) in sequences {
-        let info = list.iter().find(|entry| entry.id == id);
+        let info = list_index.get(id.as_str()).copied();
         let name = info
             .map(|entry| entry.name.clone())
             .filter(|name| !name.is_empty())

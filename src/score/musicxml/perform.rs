@@ -20,6 +20,9 @@ use crate::score::{Location, Measure, Note, Part, Piece, ReadOptions, ScoreError
 pub const MAX_PERFORMED_MEASURES: usize = 200_000;
 /// Most notes a performance may hold, all parts together.
 pub const MAX_PERFORMED_NOTES: usize = 20_000_000;
+/// Most part-measures (parts × performed measures) laid out: 100 parts of
+/// 200 000 measures, far beyond any choral score.
+pub const MAX_PART_MEASURES: usize = 20_000_000;
 /// Tempo assumed when a score gives none: 120 quarter notes per minute
 /// (the MusicXML and Standard MIDI File default).
 pub const DEFAULT_QUARTERS_PER_MINUTE: f64 = 120.0;
@@ -62,6 +65,20 @@ pub fn perform(file: &Path, written: Written, options: &ReadOptions) -> Result<P
                 navigation.printed.join(", ")
             ));
         }
+    }
+
+    // Laying out costs parts × performed measures; bound it against files
+    // with very many (empty) parts.
+    let work = written.parts.len().saturating_mul(order.len());
+    if work > MAX_PART_MEASURES {
+        return Err(ScoreError::TooLarge {
+            file: file.to_path_buf(),
+            message: format!(
+                "{} parts × {} performed measures is beyond {MAX_PART_MEASURES}",
+                written.parts.len(),
+                order.len()
+            ),
+        });
     }
 
     // Performance onsets of the measures, in quarter notes.
