@@ -9,6 +9,12 @@
 //! and unrolled (`ambit parts` against music21's `Score.expandRepeats()`).
 //! Ambit's side is the CLI's JSON, so the whole path from file to histogram
 //! is checked. No exclusions: every chosen chorale agrees.
+//!
+//! A one-off run of the same comparison over all 408 .mxl files of music21's
+//! Bach corpus agreed on every part of 407, as written and unrolled; the
+//! other, bwv846 (a keyboard prelude, not a chorale), differs only because
+//! music21 splits a two-staff piano part into one PartStaff per staff where
+//! Ambit keeps one part.
 
 mod common;
 
@@ -59,7 +65,16 @@ fn compare(reference: &Value, unrolled: bool) -> (usize, Vec<String>) {
         let theirs = file["parts"].as_array().expect("parts");
         let ours = ours["parts"].as_array().expect("parts");
         let names = |parts: &[Value]| -> Vec<String> {
-            parts.iter().map(|part| part["name"].to_string()).collect()
+            // Whitespace is compared collapsed: Ambit folds the line breaks
+            // some exporters put in part names ("Soprano\rOboe 1,2"),
+            // music21 keeps them.
+            parts
+                .iter()
+                .map(|part| {
+                    let name = part["name"].as_str().unwrap_or("");
+                    name.split_whitespace().collect::<Vec<_>>().join(" ")
+                })
+                .collect()
         };
         if names(theirs) != names(ours) {
             problems.push(format!(
