@@ -4,7 +4,8 @@
 //! column, measure, or archive entry) — never a panic, a hang or unbounded
 //! memory. The MIDI side of the corpus is checked in tests/bad_midi.rs.
 
-use std::io::Write;
+mod common;
+
 use std::path::{Path, PathBuf};
 
 use ambit::score::{MAX_SCORE_BYTES, ReadOptions, ScoreError, read_score, read_score_bytes};
@@ -130,24 +131,12 @@ fn a_broken_score_inside_an_archive_names_the_entry_and_line() {
     assert!(error.to_string().contains("line 6"), "{error}");
 }
 
-fn zip_of(entries: &[(&str, &[u8])]) -> Vec<u8> {
-    let mut writer = zip::ZipWriter::new(std::io::Cursor::new(Vec::new()));
-    let options = zip::write::SimpleFileOptions::default()
-        .compression_method(zip::CompressionMethod::Deflated)
-        .large_file(true);
-    for (name, bytes) in entries {
-        writer.start_file(*name, options).expect("zip entry");
-        writer.write_all(bytes).expect("zip write");
-    }
-    writer.finish().expect("zip finish").into_inner()
-}
-
 #[test]
 fn a_zip_bomb_stops_at_the_size_cap() {
     // 100 MiB of '<' deflates to about 100 KB; the reader must stop at its
     // 64 MiB budget instead of inflating it all.
     let bomb = vec![b'<'; 100 * 1024 * 1024];
-    let archive = zip_of(&[("bomb.musicxml", &bomb)]);
+    let archive = common::zip_archive(&[("bomb.musicxml", &bomb)]);
     let error = read_score_bytes(Path::new("bomb.mxl"), &archive, &ReadOptions::default())
         .expect_err("a zip bomb is refused");
     let message = error.to_string();
@@ -163,7 +152,7 @@ fn an_entry_inflating_far_beyond_xml_ratios_is_refused() {
     // 8 MiB of one byte: under the size cap, but a ratio near deflate's
     // ceiling (about 1000:1) that no real MusicXML reaches.
     let bomb = vec![b' '; 8 * 1024 * 1024];
-    let archive = zip_of(&[("score.xml", &bomb)]);
+    let archive = common::zip_archive(&[("score.xml", &bomb)]);
     let error = read_score_bytes(Path::new("ratio.mxl"), &archive, &ReadOptions::default())
         .expect_err("a high-ratio entry is refused");
     let message = error.to_string();
@@ -178,7 +167,7 @@ fn an_entry_inflating_far_beyond_xml_ratios_is_refused() {
 fn an_archive_with_thousands_of_entries_is_refused() {
     let names: Vec<String> = (0..1500).map(|index| format!("page{index}.png")).collect();
     let entries: Vec<(&str, &[u8])> = names.iter().map(|name| (name.as_str(), &b""[..])).collect();
-    let archive = zip_of(&entries);
+    let archive = common::zip_archive(&entries);
     let error = read_score_bytes(Path::new("crowded.mxl"), &archive, &ReadOptions::default())
         .expect_err("too many entries is refused");
     let message = error.to_string();

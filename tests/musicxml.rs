@@ -3,7 +3,8 @@
 //! reference (W3C Music Notation CG, element pages named in the comments) or
 //! from common practice in reading printed music, as stated beside it.
 
-use std::io::Write;
+mod common;
+
 use std::path::Path;
 
 use ambit::score::{Mode, PartKind, Piece, ReadOptions, read_score_bytes};
@@ -476,17 +477,6 @@ fn score_timewise_reads_like_the_same_score_partwise() {
     assert_eq!(onsets(&read(&timewise)), vec![(0.0, 60.0), (2.0, 64.0)]);
 }
 
-fn zip(entries: &[(&str, &str)]) -> Vec<u8> {
-    let mut writer = zip::ZipWriter::new(std::io::Cursor::new(Vec::new()));
-    let options = zip::write::SimpleFileOptions::default()
-        .compression_method(zip::CompressionMethod::Deflated);
-    for (name, text) in entries {
-        writer.start_file(*name, options).expect("zip entry");
-        writer.write_all(text.as_bytes()).expect("zip write");
-    }
-    writer.finish().expect("zip finish").into_inner()
-}
-
 #[test]
 fn compressed_mxl_is_read_through_its_container() {
     // Compressed MusicXML: META-INF/container.xml names the root file
@@ -495,18 +485,18 @@ fn compressed_mxl_is_read_through_its_container() {
     let score = with_endings();
     let container = r#"<?xml version="1.0" encoding="UTF-8"?>
       <container><rootfiles><rootfile full-path="scores/piece.musicxml" media-type="application/vnd.recordare.musicxml+xml"/></rootfiles></container>"#;
-    let archive = zip(&[
-        ("mimetype", "application/vnd.recordare.musicxml"),
-        ("META-INF/container.xml", container),
-        ("decoy.xml", "<score-partwise/>"),
-        ("scores/piece.musicxml", &score),
+    let archive = common::zip_archive(&[
+        ("mimetype", b"application/vnd.recordare.musicxml".as_slice()),
+        ("META-INF/container.xml", container.as_bytes()),
+        ("decoy.xml", b"<score-partwise/>"),
+        ("scores/piece.musicxml", score.as_bytes()),
     ]);
     let piece = read_score_bytes(Path::new("piece.mxl"), &archive, &ReadOptions::default())
         .unwrap_or_else(|error| panic!("{error}"));
     assert_eq!(piece, read(&score));
 
     // Without a container, the first .musicxml/.xml at the top level.
-    let bare = zip(&[("piece.musicxml", &score)]);
+    let bare = common::zip_archive(&[("piece.musicxml", score.as_bytes())]);
     let piece = read_score_bytes(Path::new("bare.mxl"), &bare, &ReadOptions::default())
         .unwrap_or_else(|error| panic!("{error}"));
     assert_eq!(numbers(&piece), vec!["1", "2", "3", "1", "2", "4", "5"]);

@@ -123,32 +123,14 @@ pub fn read_mxl(path: &Path, bytes: &[u8], options: &ReadOptions) -> Result<Piec
 }
 
 /// Adds the archive entry to an error found in the score inside an `.mxl`.
-fn in_entry(error: ScoreError, entry: &str) -> ScoreError {
-    match error {
-        ScoreError::Malformed {
-            file,
-            location,
-            message,
-        } => ScoreError::Malformed {
-            file,
-            location,
-            message: format!("in archive entry {entry}: {message}"),
-        },
-        ScoreError::Unsupported {
-            file,
-            location,
-            message,
-        } => ScoreError::Unsupported {
-            file,
-            location,
-            message: format!("in archive entry {entry}: {message}"),
-        },
-        ScoreError::TooLarge { file, message } => ScoreError::TooLarge {
-            file,
-            message: format!("in archive entry {entry}: {message}"),
-        },
-        other => other,
+fn in_entry(mut error: ScoreError, entry: &str) -> ScoreError {
+    if let ScoreError::Malformed { message, .. }
+    | ScoreError::Unsupported { message, .. }
+    | ScoreError::TooLarge { message, .. } = &mut error
+    {
+        *message = format!("in archive entry {entry}: {message}");
     }
+    error
 }
 
 /// The document as text: UTF-8 (with or without BOM), UTF-16 with a BOM, or
