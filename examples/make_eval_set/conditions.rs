@@ -148,7 +148,7 @@ fn range_phrase(voice_type: &VoiceType, note_seconds: f64, count: usize) -> Vec<
 }
 
 fn sirens(voice_type: &VoiceType, glide_seconds: f64) -> Vec<Segment> {
-    let low = voice_type.low_midi + 3.0;
+    let low = voice_type.low_midi + 1.0;
     let high = voice_type.high_midi - 1.0;
     let up = Glide {
         from_midi: low,
