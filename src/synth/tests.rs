@@ -506,7 +506,10 @@ fn legato_notes_join_with_portamento_and_a_note_after_silence_scoops_from_below(
             && transition.last().is_some_and(|(_, m)| *m > 66.9)
     );
     let at_80_ms = truth_midi(&synthesis, 0.879, 0.889);
-    assert!(at_80_ms.first().is_some_and(|(_, m)| *m < 66.9), "{at_80_ms:?}");
+    assert!(
+        at_80_ms.first().is_some_and(|(_, m)| *m < 66.9),
+        "{at_80_ms:?}"
+    );
     assert!(
         synthesis
             .truth
@@ -520,33 +523,18 @@ fn legato_notes_join_with_portamento_and_a_note_after_silence_scoops_from_below(
 fn the_same_seed_gives_the_same_recording_and_another_seed_another() {
     let voice = Voice::new(TractSize::Child);
     let segments = [note(72.0, 0.5, Vowel::I)];
-    let first = synthesize(
-        &voice,
-        &segments,
-        &SynthConfig {
-            seed: 7,
-            ..config(22_050)
-        },
-    )
-    .expect("renders");
-    let again = synthesize(
-        &voice,
-        &segments,
-        &SynthConfig {
-            seed: 7,
-            ..config(22_050)
-        },
-    )
-    .expect("renders");
-    let other = synthesize(
-        &voice,
-        &segments,
-        &SynthConfig {
-            seed: 8,
-            ..config(22_050)
-        },
-    )
-    .expect("renders");
+    let render = |seed: u64| {
+        synthesize(
+            &voice,
+            &segments,
+            &SynthConfig {
+                seed,
+                ..config(22_050)
+            },
+        )
+        .expect("renders")
+    };
+    let (first, again, other) = (render(7), render(7), render(8));
     assert_eq!(first, again);
     assert_ne!(first.samples, other.samples);
 }
