@@ -122,15 +122,17 @@ fn raw_pitch_accuracy_matches_or_beats_pyin_and_reaches_98_percent_on_clean_sing
             100.0 * ours,
             100.0 * pyin
         );
-        // Not `ours < pyin - tolerance`: a NaN must fail too.
-        if !(ours >= pyin - TOLERANCE_BELOW_PYIN) {
+        // A missing figure (NaN) must fail too, hence `is_ge` on partial_cmp.
+        let at_least =
+            |value: f64, floor: f64| value.partial_cmp(&floor).is_some_and(|o| o.is_ge());
+        if !at_least(ours, pyin - TOLERANCE_BELOW_PYIN) {
             failures.push(format!(
                 "{name}: ours {:.1} % < pyin {:.1} %",
                 100.0 * ours,
                 100.0 * pyin
             ));
         }
-        if clean.iter().any(|c| c == name) && !(ours >= CLEAN_SINGING_FLOOR) {
+        if clean.iter().any(|c| c == name) && !at_least(ours, CLEAN_SINGING_FLOOR) {
             failures.push(format!(
                 "{name}: ours {:.1} % < 98 % on clean singing",
                 100.0 * ours
