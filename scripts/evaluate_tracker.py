@@ -189,7 +189,7 @@ def main():
         f"All clean singing ({len(clean)} files): RPA ours {percent(mean(r['ours']['raw_pitch_accuracy'] for r in clean))} %, "
         f"pyin {percent(mean(r['pyin']['raw_pitch_accuracy'] for r in clean))} %.",
         "",
-        f"Time in this run: `ambit track` {ambit_seconds:.1f} s (process start and file decoding included), "
+        f"Wall-clock time in this run on a shared, heavily loaded 2-core machine (not a speed measurement; see the speed section): `ambit track` {ambit_seconds:.1f} s (process start and file decoding included), "
         f"librosa.pyin {pyin_seconds:.1f} s (analysis only), on {audio_seconds:.0f} s of audio.",
         "",
     ]
