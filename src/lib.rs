@@ -20,6 +20,7 @@ pub mod plan;
 pub mod roster;
 pub mod score;
 pub mod sections;
+pub mod synth;
 pub mod tessitura;
 pub mod track;
 pub mod transpose;
