@@ -53,7 +53,7 @@ fn instance(random: &mut SplitMix, index: usize) -> PlacementProblem {
                 .collect()
         })
         .collect();
-    let sizes: Vec<SizeLimit> = if index % 3 == 0 {
+    let sizes: Vec<SizeLimit> = if index.is_multiple_of(3) {
         // A random composition of the roster, sometimes off by one singer
         // so that some fixed-size instances are infeasible.
         let mut counts = vec![0usize; sections];
@@ -95,7 +95,7 @@ fn instance(random: &mut SplitMix, index: usize) -> PlacementProblem {
     let exclusions = (0..random.below(5))
         .map(|_| (random.below(singers), random.below(sections)))
         .collect();
-    let balance = (index % 3 != 0 && random.below(3) == 0).then(|| random.unit() * 5.0);
+    let balance = (!index.is_multiple_of(3) && random.below(3) == 0).then(|| random.unit() * 5.0);
     PlacementProblem {
         singers: (0..singers)
             .map(|singer| format!("singer{singer}"))

@@ -1,7 +1,6 @@
 //! `ambit track` end to end: a WAV written here, the JSON/CSV/summary shapes
 //! of the CLI contract, and clear errors.
 
-
 mod common;
 
 use std::path::Path;
