@@ -1,6 +1,7 @@
 //! Command-line interface: one file per subcommand. Each subcommand parses
 //! its arguments, calls the engine and formats text or JSON.
 
+mod library;
 mod parts;
 mod place;
 mod profile;
@@ -26,6 +27,8 @@ pub enum Command {
     Profile(profile::ProfileArgs),
     /// The optimal placement of a roster into a layout's sections over a programme of scores.
     Place(place::PlaceArgs),
+    /// The choir library: singers, auditions, pieces, scenarios, backups.
+    Library(library::LibraryArgs),
 }
 
 pub fn run(cli: Cli) -> anyhow::Result<()> {
@@ -34,5 +37,6 @@ pub fn run(cli: Cli) -> anyhow::Result<()> {
         Command::Track(arguments) => track::run(arguments),
         Command::Profile(arguments) => profile::run(arguments),
         Command::Place(arguments) => place::run(arguments),
+        Command::Library(arguments) => library::run(arguments),
     }
 }
