@@ -43,7 +43,10 @@ fn dump(library: &Library) -> String {
         let rows = statement
             .query_map([], |row| {
                 (0..columns)
-                    .map(|i| row.get::<_, rusqlite::types::Value>(i).map(|v| format!("{v:?}")))
+                    .map(|i| {
+                        row.get::<_, rusqlite::types::Value>(i)
+                            .map(|v| format!("{v:?}"))
+                    })
                     .collect::<Result<Vec<_>, _>>()
             })
             .unwrap();
@@ -63,13 +66,20 @@ fn roster_import_plans_then_commits_and_exports_the_same_columns() {
 
     // A dry run lists three new singers and writes nothing.
     let plan = library.import_roster_file(&roster_file, true).unwrap();
-    assert_eq!(plan.added, vec!["Maren Voss", "Jolan Brekke", "Ilse Marwick"]);
+    assert_eq!(
+        plan.added,
+        vec!["Maren Voss", "Jolan Brekke", "Ilse Marwick"]
+    );
     assert_eq!(library.singers(true).unwrap().len(), 0);
 
     library.import_roster_file(&roster_file, false).unwrap();
     // Raising Maren's top from C6 to D6 (MIDI 84 → 86, C4 = 60) is a change;
     // the other two are unchanged.
-    std::fs::write(&roster_file, ROSTER.replace("Maren Voss,F3,C6", "Maren Voss,F3,D6")).unwrap();
+    std::fs::write(
+        &roster_file,
+        ROSTER.replace("Maren Voss,F3,C6", "Maren Voss,F3,D6"),
+    )
+    .unwrap();
     let plan = library.import_roster_file(&roster_file, false).unwrap();
     assert_eq!(plan.added.len(), 0);
     assert_eq!(plan.skipped, vec!["Jolan Brekke", "Ilse Marwick"]);
@@ -82,7 +92,11 @@ fn roster_import_plans_then_commits_and_exports_the_same_columns() {
     let exported = dir.path().join("export.csv");
     std::fs::write(&exported, ambit::roster::roster_to_csv(&roster).unwrap()).unwrap();
     let back = read_roster(&exported).unwrap();
-    let maren = back.singers.iter().find(|s| s.name == "Maren Voss").unwrap();
+    let maren = back
+        .singers
+        .iter()
+        .find(|s| s.name == "Maren Voss")
+        .unwrap();
     assert_eq!(maren.range_high_midi, 86.0);
     assert_eq!(maren.primo_midi, Some(64.0)); // E4 = MIDI 64
     assert_eq!(back.singers.len(), 3);
@@ -93,16 +107,28 @@ fn history_lists_every_profile_in_date_order_and_the_newest_is_current() {
     let dir = tempfile::tempdir().unwrap();
     let mut library = library_with_roster(dir.path());
     // A student's comfort top grows from D4 (62) to F4 (65) over a year.
-    for (date, top) in [("2026-09-01", 65.0), ("2025-09-01", 62.0), ("2026-03-01", 64.0)] {
+    for (date, top) in [
+        ("2026-09-01", 65.0),
+        ("2025-09-01", 62.0),
+        ("2026-03-01", 64.0),
+    ] {
         let file = recording(dir.path(), &format!("glide-{date}.wav"), date.as_bytes());
         library
-            .add_audition(&audition("Jolan Brekke", date, file, profile((40.0, 67.0), (45.0, top))))
+            .add_audition(&audition(
+                "Jolan Brekke",
+                date,
+                file,
+                profile((40.0, 67.0), (45.0, top)),
+            ))
             .unwrap();
     }
     let history = library.history("jolan brekke").unwrap();
     let dates: Vec<&str> = history.iter().map(|entry| entry.held_on.as_str()).collect();
     assert_eq!(dates, vec!["2025-09-01", "2026-03-01", "2026-09-01"]);
-    let tops: Vec<f64> = history.iter().map(|e| e.profile.comfort.span.high_midi).collect();
+    let tops: Vec<f64> = history
+        .iter()
+        .map(|e| e.profile.comfort.span.high_midi)
+        .collect();
     assert_eq!(tops, vec![62.0, 64.0, 65.0]);
     // The audition was stored after the typed-in range, so it is current.
     let jolan = library
@@ -121,10 +147,20 @@ fn recordings_are_named_by_sha256_and_shared_files_are_stored_once() {
     let mut library = library_with_roster(dir.path());
     let shared = recording(dir.path(), "warmup.wav", b"the same bytes");
     library
-        .add_audition(&audition("Maren Voss", "2026-01-10", shared.clone(), profile((53.0, 84.0), (57.0, 77.0))))
+        .add_audition(&audition(
+            "Maren Voss",
+            "2026-01-10",
+            shared.clone(),
+            profile((53.0, 84.0), (57.0, 77.0)),
+        ))
         .unwrap();
     library
-        .add_audition(&audition("Ilse Marwick", "2026-01-10", shared.clone(), profile((55.0, 81.0), (59.0, 76.0))))
+        .add_audition(&audition(
+            "Ilse Marwick",
+            "2026-01-10",
+            shared.clone(),
+            profile((55.0, 81.0), (59.0, 76.0)),
+        ))
         .unwrap();
     // SHA-256 as computed independently of the library's own helper would
     // be ideal; sha256_file is checked against FIPS 180-2 in its unit test.
@@ -139,16 +175,37 @@ fn deleting_a_singer_removes_their_rows_and_files_but_keeps_shared_files() {
     let own = recording(dir.path(), "jolan.wav", b"only jolan sings this");
     let shared = recording(dir.path(), "shared.wav", b"sung by two singers");
     library
-        .add_audition(&audition("Jolan Brekke", "2026-02-01", own.clone(), profile((40.0, 64.0), (43.0, 60.0))))
+        .add_audition(&audition(
+            "Jolan Brekke",
+            "2026-02-01",
+            own.clone(),
+            profile((40.0, 64.0), (43.0, 60.0)),
+        ))
         .unwrap();
     library
-        .add_audition(&audition("Jolan Brekke", "2026-02-02", shared.clone(), profile((40.0, 64.0), (43.0, 60.0))))
+        .add_audition(&audition(
+            "Jolan Brekke",
+            "2026-02-02",
+            shared.clone(),
+            profile((40.0, 64.0), (43.0, 60.0)),
+        ))
         .unwrap();
     library
-        .add_audition(&audition("Maren Voss", "2026-02-02", shared.clone(), profile((53.0, 84.0), (57.0, 77.0))))
+        .add_audition(&audition(
+            "Maren Voss",
+            "2026-02-02",
+            shared.clone(),
+            profile((53.0, 84.0), (57.0, 77.0)),
+        ))
         .unwrap();
-    let own_file = library.folder().join("recordings").join(format!("{}.wav", sha256_file(&own).unwrap()));
-    let shared_file = library.folder().join("recordings").join(format!("{}.wav", sha256_file(&shared).unwrap()));
+    let own_file = library
+        .folder()
+        .join("recordings")
+        .join(format!("{}.wav", sha256_file(&own).unwrap()));
+    let shared_file = library
+        .folder()
+        .join("recordings")
+        .join(format!("{}.wav", sha256_file(&shared).unwrap()));
     assert!(own_file.is_file() && shared_file.is_file());
 
     let removed = library.delete_singer("Jolan Brekke").unwrap();
@@ -159,16 +216,24 @@ fn deleting_a_singer_removes_their_rows_and_files_but_keeps_shared_files() {
     // Gone from every table.
     let conn = library.connection();
     let count = |sql: &str| conn.query_row(sql, [], |row| row.get::<_, i64>(0)).unwrap();
-    assert_eq!(count("SELECT count(*) FROM singers WHERE name = 'Jolan Brekke'"), 0);
+    assert_eq!(
+        count("SELECT count(*) FROM singers WHERE name = 'Jolan Brekke'"),
+        0
+    );
     assert_eq!(count("SELECT count(*) FROM auditions"), 1);
     assert_eq!(count("SELECT count(*) FROM typed_ranges"), 2);
     assert_eq!(count("SELECT count(*) FROM recordings"), 1);
-    assert!(matches!(library.history("Jolan Brekke"), Err(LibraryError::UnknownSinger { .. })));
+    assert!(matches!(
+        library.history("Jolan Brekke"),
+        Err(LibraryError::UnknownSinger { .. })
+    ));
     // Nothing of Jolan's bytes survives anywhere in the library folder.
     for entry in walk(library.folder()) {
         let bytes = std::fs::read(&entry).unwrap();
         assert!(
-            !bytes.windows(b"only jolan".len()).any(|w| w == b"only jolan"),
+            !bytes
+                .windows(b"only jolan".len())
+                .any(|w| w == b"only jolan"),
             "{} still holds the deleted recording",
             entry.display()
         );
@@ -194,13 +259,20 @@ fn person_export_holds_their_rows_and_recordings() {
     let mut library = library_with_roster(dir.path());
     let file = recording(dir.path(), "ilse.wav", b"ilse glide");
     library
-        .add_audition(&audition("Ilse Marwick", "2026-04-04", file.clone(), profile((55.0, 81.0), (59.0, 76.0))))
+        .add_audition(&audition(
+            "Ilse Marwick",
+            "2026-04-04",
+            file.clone(),
+            profile((55.0, 81.0), (59.0, 76.0)),
+        ))
         .unwrap();
     let out = dir.path().join("ilse-export");
     let export = library.export_person("Ilse Marwick", &out).unwrap();
     assert_eq!(export.auditions.len(), 1);
     assert_eq!(export.typed_ranges.len(), 1);
-    let copied = out.join("recordings").join(format!("{}.wav", sha256_file(&file).unwrap()));
+    let copied = out
+        .join("recordings")
+        .join(format!("{}.wav", sha256_file(&file).unwrap()));
     assert_eq!(std::fs::read(copied).unwrap(), b"ilse glide");
     let json: serde_json::Value =
         serde_json::from_slice(&std::fs::read(out.join("person.json")).unwrap()).unwrap();
@@ -213,7 +285,12 @@ fn backup_then_delete_then_restore_brings_the_singer_and_files_back() {
     let mut library = library_with_roster(dir.path());
     let file = recording(dir.path(), "maren.wav", b"maren sustain");
     library
-        .add_audition(&audition("Maren Voss", "2026-05-05", file.clone(), profile((53.0, 84.0), (57.0, 77.0))))
+        .add_audition(&audition(
+            "Maren Voss",
+            "2026-05-05",
+            file.clone(),
+            profile((53.0, 84.0), (57.0, 77.0)),
+        ))
         .unwrap();
     library
         .save_scenario(&ScenarioInput {
@@ -243,7 +320,10 @@ fn backup_then_delete_then_restore_brings_the_singer_and_files_back() {
         recording_files(&folder),
         vec![format!("{}.wav", sha256_file(&file).unwrap())]
     );
-    assert_eq!(restored.scenarios().unwrap()[0].notes.as_deref(), Some("first try"));
+    assert_eq!(
+        restored.scenarios().unwrap()[0].notes.as_deref(),
+        Some("first try")
+    );
 }
 
 /// Rewrites one entry of a backup zip with other bytes (a tampered copy).
@@ -274,7 +354,12 @@ fn tampered_or_truncated_backups_are_refused_and_the_library_is_unchanged() {
     let mut library = library_with_roster(dir.path());
     let file = recording(dir.path(), "maren.wav", b"maren sustain");
     library
-        .add_audition(&audition("Maren Voss", "2026-05-05", file.clone(), profile((53.0, 84.0), (57.0, 77.0))))
+        .add_audition(&audition(
+            "Maren Voss",
+            "2026-05-05",
+            file.clone(),
+            profile((53.0, 84.0), (57.0, 77.0)),
+        ))
         .unwrap();
     let backup = dir.path().join("backup.zip");
     library.backup(&backup).unwrap();
@@ -378,7 +463,8 @@ fn a_library_from_a_newer_schema_is_refused_and_left_alone() {
     let database = folder.join("library.sqlite");
     {
         let conn = rusqlite::Connection::open(&database).unwrap();
-        conn.execute_batch("PRAGMA user_version = 99; PRAGMA wal_checkpoint(TRUNCATE);").unwrap();
+        conn.execute_batch("PRAGMA user_version = 99; PRAGMA wal_checkpoint(TRUNCATE);")
+            .unwrap();
     }
     let before = std::fs::read(&database).unwrap();
     let error = Library::open(&folder).err().unwrap();

@@ -42,7 +42,12 @@ fn child_writer() {
         let name = format!("Crash Singer {index:03}");
         let file = recording(&inputs, &format!("{index}.wav"), name.as_bytes());
         let id = library
-            .add_audition(&audition(&name, "2026-06-01", file, profile((48.0, 72.0), (52.0, 67.0))))
+            .add_audition(&audition(
+                &name,
+                "2026-06-01",
+                file,
+                profile((48.0, 72.0), (52.0, 67.0)),
+            ))
             .unwrap();
         assert!(id > 0);
         println!("committed {index}");
@@ -74,7 +79,13 @@ fn kill_at_random_points_loses_nothing() {
     let started = Instant::now();
     while kills < KILLS && !finished {
         let mut child = Command::new(std::env::current_exe().unwrap())
-            .args(["--exact", "child_writer", "--ignored", "--nocapture", "--test-threads=1"])
+            .args([
+                "--exact",
+                "child_writer",
+                "--ignored",
+                "--nocapture",
+                "--test-threads=1",
+            ])
             .env("AMBIT_CRASH_LIBRARY", &folder)
             .stdout(Stdio::piped())
             .stderr(Stdio::null())
@@ -113,7 +124,10 @@ fn kill_at_random_points_loses_nothing() {
             .collect();
         for index in &committed {
             let name = format!("Crash Singer {index:03}");
-            assert!(names.contains(&name), "{name} was reported committed but is missing after kill {kills}");
+            assert!(
+                names.contains(&name),
+                "{name} was reported committed but is missing after kill {kills}"
+            );
             let history = library.history(&name).unwrap();
             assert_eq!(history.len(), 1, "{name}");
         }
@@ -137,7 +151,10 @@ fn kill_at_random_points_loses_nothing() {
         committed.len(),
         started.elapsed().as_secs_f64()
     );
-    assert!(kills >= 10, "the child finished before it could be killed often enough");
+    assert!(
+        kills >= 10,
+        "the child finished before it could be killed often enough"
+    );
     assert!(!committed.is_empty());
 }
 

@@ -28,7 +28,9 @@ fn the_v1_fixture_is_what_migration_1_makes() {
     let mut fresh = rusqlite::Connection::open_in_memory().unwrap();
     schema::migrations().to_version(&mut fresh, 1).unwrap();
     assert_eq!(schema_of(&fixture), schema_of(&fresh));
-    let version: i64 = fixture.query_row("PRAGMA user_version", [], |r| r.get(0)).unwrap();
+    let version: i64 = fixture
+        .query_row("PRAGMA user_version", [], |r| r.get(0))
+        .unwrap();
     assert_eq!(version, 1);
 }
 
@@ -37,7 +39,11 @@ fn a_v1_library_is_migrated_and_keeps_its_singers_and_scenarios() {
     let dir = tempfile::tempdir().unwrap();
     let folder = dir.path().join("lib");
     std::fs::create_dir_all(&folder).unwrap();
-    std::fs::copy("tests/data/library-v1.sqlite", folder.join("library.sqlite")).unwrap();
+    std::fs::copy(
+        "tests/data/library-v1.sqlite",
+        folder.join("library.sqlite"),
+    )
+    .unwrap();
 
     let library = Library::open(&folder).unwrap();
     assert_eq!(library.schema_version().unwrap(), schema::LATEST_VERSION);
@@ -45,7 +51,11 @@ fn a_v1_library_is_migrated_and_keeps_its_singers_and_scenarios() {
     // Migration 2 adds the scenarios.layout column and the history indexes.
     let layout: Option<String> = library
         .connection()
-        .query_row("SELECT layout FROM scenarios WHERE name = 'spring draft'", [], |r| r.get(0))
+        .query_row(
+            "SELECT layout FROM scenarios WHERE name = 'spring draft'",
+            [],
+            |r| r.get(0),
+        )
         .unwrap();
     assert_eq!(layout, None);
     let indexes: i64 = library
@@ -62,5 +72,8 @@ fn a_v1_library_is_migrated_and_keeps_its_singers_and_scenarios() {
     assert_eq!(singers.len(), 1);
     let wenna = singers[0].current.as_ref().unwrap();
     assert_eq!((wenna.range_low_midi, wenna.range_high_midi), (53.0, 77.0));
-    assert_eq!(library.scenarios().unwrap()[0].notes.as_deref(), Some("made before v2"));
+    assert_eq!(
+        library.scenarios().unwrap()[0].notes.as_deref(),
+        Some("made before v2")
+    );
 }

@@ -182,10 +182,19 @@ pub fn run(arguments: LibraryArgs) -> anyhow::Result<()> {
             } else {
                 println!("library      {}", info.folder);
                 println!("schema       version {}", info.schema_version);
-                println!("singers      {} active, {} archived", info.singers, info.archived_singers);
+                println!(
+                    "singers      {} active, {} archived",
+                    info.singers, info.archived_singers
+                );
                 println!("auditions    {}", info.auditions);
-                println!("recordings   {} files, {} bytes", info.recordings, info.recording_bytes);
-                println!("pieces       {} in {} programmes", info.pieces, info.programmes);
+                println!(
+                    "recordings   {} files, {} bytes",
+                    info.recordings, info.recording_bytes
+                );
+                println!(
+                    "pieces       {} in {} programmes",
+                    info.pieces, info.programmes
+                );
                 println!("scenarios    {}", info.scenarios);
             }
         }
@@ -212,7 +221,9 @@ pub fn run(arguments: LibraryArgs) -> anyhow::Result<()> {
                 None => print!("{text}"),
             }
             for name in left_out {
-                eprintln!("note: {name} has no range yet (no audition, nothing typed in); left out");
+                eprintln!(
+                    "note: {name} has no range yet (no audition, nothing typed in); left out"
+                );
             }
         }
         LibraryCommand::AddAudition {
@@ -238,7 +249,9 @@ pub fn run(arguments: LibraryArgs) -> anyhow::Result<()> {
                 recordings.extend(files.into_iter().map(|path| RecordingInput { task, path }));
             }
             if recordings.is_empty() {
-                bail!("give at least one recording: --speech, --glide, --scale, --sustain or --song FILE");
+                bail!(
+                    "give at least one recording: --speech, --glide, --scale, --sustain or --song FILE"
+                );
             }
             let tasks: Vec<(Task, &Path)> = recordings
                 .iter()
@@ -268,7 +281,10 @@ pub fn run(arguments: LibraryArgs) -> anyhow::Result<()> {
             } else {
                 let measured = &input.profile;
                 println!("stored audition {id} of {name} on {}", input.held_on);
-                println!("  range         {} – {}", measured.range.low, measured.range.high);
+                println!(
+                    "  range         {} – {}",
+                    measured.range.low, measured.range.high
+                );
                 println!(
                     "  comfort zone  {} – {}",
                     measured.comfort.span.low, measured.comfort.span.high
@@ -289,7 +305,12 @@ pub fn run(arguments: LibraryArgs) -> anyhow::Result<()> {
             if json {
                 println!("{}", serde_json::to_string_pretty(&singers)?);
             } else {
-                let width = singers.iter().map(|s| s.name.chars().count()).max().unwrap_or(4).max(4);
+                let width = singers
+                    .iter()
+                    .map(|s| s.name.chars().count())
+                    .max()
+                    .unwrap_or(4)
+                    .max(4);
                 println!(
                     "{:<width$}  {:<7}  {:<9}  {:<9}  {:<9}  auditions",
                     "name", "section", "range", "comfort", "from"
@@ -335,7 +356,10 @@ pub fn run(arguments: LibraryArgs) -> anyhow::Result<()> {
             } else if history.is_empty() {
                 println!("{name} has no auditions yet");
             } else {
-                println!("{:<10}  {:<9}  {:<9}  {:<14}  section", "date", "range", "comfort", "voice type");
+                println!(
+                    "{:<10}  {:<9}  {:<9}  {:<14}  section",
+                    "date", "range", "comfort", "voice type"
+                );
                 for entry in &history {
                     let profile = &entry.profile;
                     println!(
@@ -390,7 +414,9 @@ pub fn run(arguments: LibraryArgs) -> anyhow::Result<()> {
             };
             let id = library.add_piece(&input, programme.as_deref())?;
             match programme {
-                Some(programme) => println!("stored piece {id} \"{title}\" in programme \"{programme}\""),
+                Some(programme) => {
+                    println!("stored piece {id} \"{title}\" in programme \"{programme}\"")
+                }
                 None => println!("stored piece {id} \"{title}\""),
             }
         }
@@ -401,7 +427,10 @@ pub fn run(arguments: LibraryArgs) -> anyhow::Result<()> {
                 None => library.pieces()?,
             };
             for piece in pieces {
-                println!("{:>4}  {}  ({})", piece.id, piece.title, piece.original_name);
+                println!(
+                    "{:>4}  {}  ({})",
+                    piece.id, piece.title, piece.original_name
+                );
             }
         }
         LibraryCommand::SaveScenario {
@@ -413,8 +442,10 @@ pub fn run(arguments: LibraryArgs) -> anyhow::Result<()> {
         } => {
             let mut library = open(&folder)?;
             let read_json = |path: &Path| -> anyhow::Result<serde_json::Value> {
-                let text = std::fs::read(path).with_context(|| format!("{}: cannot read", path.display()))?;
-                serde_json::from_slice(&text).with_context(|| format!("{}: not JSON", path.display()))
+                let text = std::fs::read(path)
+                    .with_context(|| format!("{}: cannot read", path.display()))?;
+                serde_json::from_slice(&text)
+                    .with_context(|| format!("{}: not JSON", path.display()))
             };
             let result = read_json(&result)?;
             let layout = result

@@ -159,7 +159,8 @@ impl Library {
             .map_err(|e| self.db_error(e))?;
         let mut history = Vec::new();
         for row in rows {
-            let (audition_id, held_on, analysis_version, json) = row.map_err(|e| self.db_error(e))?;
+            let (audition_id, held_on, analysis_version, json) =
+                row.map_err(|e| self.db_error(e))?;
             history.push(HistoryEntry {
                 audition_id,
                 held_on,

@@ -16,7 +16,9 @@ use serde::{Deserialize, Serialize};
 use sha2::{Digest, Sha256};
 use zip::write::SimpleFileOptions;
 
-use super::{DATABASE_FILE, Library, LibraryError, RECORDINGS_DIR, SCORES_DIR, now_timestamp, schema};
+use super::{
+    DATABASE_FILE, Library, LibraryError, RECORDINGS_DIR, SCORES_DIR, now_timestamp, schema,
+};
 
 /// The manifest's format name, so another zip is not taken for a backup.
 pub const BACKUP_FORMAT: &str = "ambit-library-backup";
@@ -88,8 +90,14 @@ impl Library {
                 .map_err(|e| self.db_error(e))?;
             let mut files = Vec::new();
             for (dir, sql) in [
-                (RECORDINGS_DIR, "SELECT file_name FROM recordings ORDER BY file_name"),
-                (SCORES_DIR, "SELECT DISTINCT file_name FROM pieces ORDER BY file_name"),
+                (
+                    RECORDINGS_DIR,
+                    "SELECT file_name FROM recordings ORDER BY file_name",
+                ),
+                (
+                    SCORES_DIR,
+                    "SELECT DISTINCT file_name FROM pieces ORDER BY file_name",
+                ),
             ] {
                 let mut statement = copy.prepare(sql).map_err(|e| self.db_error(e))?;
                 let names = statement
@@ -102,61 +110,60 @@ impl Library {
             (version, files)
         };
         let temp_out = out.with_extension("partial");
-        let result = (|| {
-            let mut zip = zip::ZipWriter::new(File::create(&temp_out).map_err(io(&temp_out))?);
-            let options = SimpleFileOptions::default()
-                .compression_method(zip::CompressionMethod::Deflated)
-                .large_file(true);
-            let mut entries = Vec::new();
-            let mut sources: Vec<(String, PathBuf)> =
-                vec![(DATABASE_FILE.to_string(), snapshot.clone())];
-            sources.extend(
-                files
-                    .iter()
-                    .map(|(dir, name)| (format!("{dir}/{name}"), self.folder.join(dir).join(name))),
-            );
-            for (entry, source) in sources {
-                let mut file = File::open(&source).map_err(io(&source))?;
-                zip.start_file(entry.as_str(), options)
-                    .map_err(|error| backup_error(&temp_out, error.to_string()))?;
-                let mut hasher = Sha256::new();
-                let mut buffer = vec![0u8; 64 * 1024];
-                let mut bytes = 0u64;
-                loop {
-                    let read = file.read(&mut buffer).map_err(io(&source))?;
-                    if read == 0 {
-                        break;
+        let result =
+            (|| {
+                let mut zip = zip::ZipWriter::new(File::create(&temp_out).map_err(io(&temp_out))?);
+                let options = SimpleFileOptions::default()
+                    .compression_method(zip::CompressionMethod::Deflated)
+                    .large_file(true);
+                let mut entries = Vec::new();
+                let mut sources: Vec<(String, PathBuf)> =
+                    vec![(DATABASE_FILE.to_string(), snapshot.clone())];
+                sources.extend(files.iter().map(|(dir, name)| {
+                    (format!("{dir}/{name}"), self.folder.join(dir).join(name))
+                }));
+                for (entry, source) in sources {
+                    let mut file = File::open(&source).map_err(io(&source))?;
+                    zip.start_file(entry.as_str(), options)
+                        .map_err(|error| backup_error(&temp_out, error.to_string()))?;
+                    let mut hasher = Sha256::new();
+                    let mut buffer = vec![0u8; 64 * 1024];
+                    let mut bytes = 0u64;
+                    loop {
+                        let read = file.read(&mut buffer).map_err(io(&source))?;
+                        if read == 0 {
+                            break;
+                        }
+                        let chunk = buffer.get(..read).unwrap_or_default();
+                        hasher.update(chunk);
+                        zip.write_all(chunk).map_err(io(&temp_out))?;
+                        bytes += read as u64;
                     }
-                    let chunk = buffer.get(..read).unwrap_or_default();
-                    hasher.update(chunk);
-                    zip.write_all(chunk).map_err(io(&temp_out))?;
-                    bytes += read as u64;
+                    entries.push(ManifestEntry {
+                        path: entry,
+                        bytes,
+                        sha256: super::hex(&hasher.finalize()),
+                    });
                 }
-                entries.push(ManifestEntry {
-                    path: entry,
-                    bytes,
-                    sha256: super::hex(&hasher.finalize()),
-                });
-            }
-            let manifest = BackupManifest {
-                format: BACKUP_FORMAT.into(),
-                format_version: 1,
-                schema_version,
-                created_at: now_timestamp(),
-                entries,
-            };
-            let text = serde_json::to_vec_pretty(&manifest)
-                .map_err(|error| backup_error(&temp_out, error.to_string()))?;
-            zip.start_file(MANIFEST, options)
-                .map_err(|error| backup_error(&temp_out, error.to_string()))?;
-            zip.write_all(&text).map_err(io(&temp_out))?;
-            let file = zip
-                .finish()
-                .map_err(|error| backup_error(&temp_out, error.to_string()))?;
-            file.sync_all().map_err(io(&temp_out))?;
-            std::fs::rename(&temp_out, out).map_err(io(out))?;
-            Ok(manifest)
-        })();
+                let manifest = BackupManifest {
+                    format: BACKUP_FORMAT.into(),
+                    format_version: 1,
+                    schema_version,
+                    created_at: now_timestamp(),
+                    entries,
+                };
+                let text = serde_json::to_vec_pretty(&manifest)
+                    .map_err(|error| backup_error(&temp_out, error.to_string()))?;
+                zip.start_file(MANIFEST, options)
+                    .map_err(|error| backup_error(&temp_out, error.to_string()))?;
+                zip.write_all(&text).map_err(io(&temp_out))?;
+                let file = zip
+                    .finish()
+                    .map_err(|error| backup_error(&temp_out, error.to_string()))?;
+                file.sync_all().map_err(io(&temp_out))?;
+                std::fs::rename(&temp_out, out).map_err(io(out))?;
+                Ok(manifest)
+            })();
         if result.is_err() {
             let _ = std::fs::remove_file(&temp_out);
         }
@@ -174,9 +181,9 @@ impl Library {
             backup_error(backup, format!("not a readable backup (zip): {error}"))
         })?;
         let manifest: BackupManifest = {
-            let entry = archive
-                .by_name(MANIFEST)
-                .map_err(|_| backup_error(backup, "no manifest.json: not an Ambit library backup"))?;
+            let entry = archive.by_name(MANIFEST).map_err(|_| {
+                backup_error(backup, "no manifest.json: not an Ambit library backup")
+            })?;
             let mut text = Vec::new();
             entry
                 .take(MAX_MANIFEST_BYTES)
@@ -210,7 +217,10 @@ impl Library {
             .map(|entry| (entry.path.as_str(), entry))
             .collect();
         if !listed.contains_key(DATABASE_FILE) {
-            return Err(backup_error(backup, "manifest.json lists no library.sqlite"));
+            return Err(backup_error(
+                backup,
+                "manifest.json lists no library.sqlite",
+            ));
         }
         let names = archive
             .file_names()
@@ -233,7 +243,13 @@ impl Library {
                 ));
             }
             let mut reader = archive.by_name(&entry.path).map_err(|_| {
-                backup_error(backup, format!("{}: listed in manifest.json but missing (truncated?)", entry.path))
+                backup_error(
+                    backup,
+                    format!(
+                        "{}: listed in manifest.json but missing (truncated?)",
+                        entry.path
+                    ),
+                )
             })?;
             let target = staging.join(&entry.path);
             if let Some(parent) = target.parent() {
@@ -253,7 +269,10 @@ impl Library {
             let mut limited = (&mut reader).take(entry.bytes.saturating_add(1));
             loop {
                 let read = limited.read(&mut buffer).map_err(|error| {
-                    backup_error(backup, format!("{}: cannot be read at byte {bytes}: {error}", entry.path))
+                    backup_error(
+                        backup,
+                        format!("{}: cannot be read at byte {bytes}: {error}", entry.path),
+                    )
                 })?;
                 if read == 0 {
                     break;

@@ -167,7 +167,8 @@ impl Library {
             folder.join(RECORDINGS_DIR),
             folder.join(SCORES_DIR),
         ] {
-            std::fs::create_dir_all(&dir).map_err(|source| LibraryError::Io { file: dir, source })?;
+            std::fs::create_dir_all(&dir)
+                .map_err(|source| LibraryError::Io { file: dir, source })?;
         }
         Library::open_inner(folder, true)
     }
@@ -564,7 +565,11 @@ pub fn check_date(text: &str) -> Result<(), String> {
     let parts: Vec<&str> = text.split('-').collect();
     let valid = match parts.as_slice() {
         [year, month, day] if year.len() == 4 && month.len() == 2 && day.len() == 2 => {
-            match (year.parse::<u32>(), month.parse::<u32>(), day.parse::<u32>()) {
+            match (
+                year.parse::<u32>(),
+                month.parse::<u32>(),
+                day.parse::<u32>(),
+            ) {
                 (Ok(_), Ok(month), Ok(day)) => (1..=12).contains(&month) && (1..=31).contains(&day),
                 _ => false,
             }

@@ -64,7 +64,11 @@ impl Library {
     /// Copies the score in (named by SHA-256) and stores the piece with its
     /// analysis; a piece of the same title is replaced. With `programme`,
     /// appends the piece to that programme (created if new).
-    pub fn add_piece(&mut self, input: &PieceInput, programme: Option<&str>) -> Result<i64, LibraryError> {
+    pub fn add_piece(
+        &mut self,
+        input: &PieceInput,
+        programme: Option<&str>,
+    ) -> Result<i64, LibraryError> {
         if input.title.trim().is_empty() {
             return Err(LibraryError::Invalid {
                 file: input.score.clone(),

@@ -135,10 +135,26 @@ fn plan_one(
         None => fields.push("typed range added".to_string()),
         Some(old) => {
             for (label, before, after) in [
-                ("range_low", Some(old.range_low_midi), Some(new.range_low_midi)),
-                ("range_high", Some(old.range_high_midi), Some(new.range_high_midi)),
-                ("comfort_low", Some(old.comfort_low_midi), Some(new.comfort_low_midi)),
-                ("comfort_high", Some(old.comfort_high_midi), Some(new.comfort_high_midi)),
+                (
+                    "range_low",
+                    Some(old.range_low_midi),
+                    Some(new.range_low_midi),
+                ),
+                (
+                    "range_high",
+                    Some(old.range_high_midi),
+                    Some(new.range_high_midi),
+                ),
+                (
+                    "comfort_low",
+                    Some(old.comfort_low_midi),
+                    Some(new.comfort_low_midi),
+                ),
+                (
+                    "comfort_high",
+                    Some(old.comfort_high_midi),
+                    Some(new.comfort_high_midi),
+                ),
                 ("primo", old.primo_midi, new.primo_midi),
                 ("secondo", old.secondo_midi, new.secondo_midi),
             ] {
@@ -169,7 +185,10 @@ fn plan_one(
     Ok((Some(id), fields))
 }
 
-fn latest_typed(transaction: &rusqlite::Connection, singer_id: i64) -> rusqlite::Result<Option<TypedRange>> {
+fn latest_typed(
+    transaction: &rusqlite::Connection,
+    singer_id: i64,
+) -> rusqlite::Result<Option<TypedRange>> {
     transaction
         .query_row(
             "SELECT range_low_midi, range_high_midi, comfort_low_midi, comfort_high_midi, primo_midi, secondo_midi
@@ -189,7 +208,11 @@ fn latest_typed(transaction: &rusqlite::Connection, singer_id: i64) -> rusqlite:
         .optional()
 }
 
-fn insert_typed(transaction: &Transaction<'_>, singer_id: i64, singer: &Singer) -> rusqlite::Result<()> {
+fn insert_typed(
+    transaction: &Transaction<'_>,
+    singer_id: i64,
+    singer: &Singer,
+) -> rusqlite::Result<()> {
     transaction.execute(
         "INSERT INTO typed_ranges (singer_id, entered_at, range_low_midi, range_high_midi,
              comfort_low_midi, comfort_high_midi, primo_midi, secondo_midi)
@@ -297,7 +320,11 @@ impl Library {
     }
 
     /// Reads a roster file with the one roster parser and imports it.
-    pub fn import_roster_file(&mut self, path: &Path, dry_run: bool) -> Result<ImportPlan, LibraryError> {
+    pub fn import_roster_file(
+        &mut self,
+        path: &Path,
+        dry_run: bool,
+    ) -> Result<ImportPlan, LibraryError> {
         let roster = crate::roster::read_roster(path)?;
         if dry_run {
             self.plan_roster_import(&roster)
@@ -378,12 +405,13 @@ impl Library {
                 row.map_err(|e| self.db_error(e))?;
             let measured = match measured {
                 Some((at, json)) => {
-                    let profile: Profile = serde_json::from_str(&json).map_err(|error| {
-                        LibraryError::Invalid {
+                    let profile: Profile =
+                        serde_json::from_str(&json).map_err(|error| LibraryError::Invalid {
                             file: self.database.clone(),
-                            message: format!("the stored profile of {name} cannot be read: {error}"),
-                        }
-                    })?;
+                            message: format!(
+                                "the stored profile of {name} cannot be read: {error}"
+                            ),
+                        })?;
                     let mut singer = singer_from_profile(&name, &profile);
                     // The director's section and type win over the suggestion.
                     singer.section = section.clone().or(singer.section);
@@ -578,10 +606,11 @@ impl Library {
             auditions,
         };
         let json_path = out.join("person.json");
-        let json = serde_json::to_string_pretty(&export).map_err(|error| LibraryError::Invalid {
-            file: json_path.clone(),
-            message: error.to_string(),
-        })?;
+        let json =
+            serde_json::to_string_pretty(&export).map_err(|error| LibraryError::Invalid {
+                file: json_path.clone(),
+                message: error.to_string(),
+            })?;
         std::fs::write(&json_path, json).map_err(io(json_path.clone()))?;
         Ok(export)
     }
