@@ -52,7 +52,7 @@ impl Default for FitWeights {
             share_outside: 1.5,
             severity: 0.5,
             beyond_range: 5.0,
-            passaggio: 0.5,
+            passaggio: 0.25,
             stretch: 0.4,
         }
     }
@@ -149,6 +149,9 @@ pub struct PartFit {
 pub struct PartProfile {
     /// The one duration-weighted distribution (tessitura), over seconds.
     distribution: PitchDistribution,
+    /// Its points with equal pitches merged: a part sings a few dozen
+    /// distinct pitches, so every singer × key costs that many steps.
+    merged: Vec<(f64, f64)>,
     lowest_midi: Option<f64>,
     highest_midi: Option<f64>,
     /// (threshold, longest stretch of notes strictly above it), thresholds
@@ -196,12 +199,14 @@ pub fn profile_notes(notes: &[Note], config: &FitConfig) -> PartProfile {
     let mut sung: Vec<&Note> = notes.iter().filter(|note| is_sung(note)).collect();
     sung.sort_by(|a, b| a.onset_seconds.total_cmp(&b.onset_seconds));
     let distribution = PitchDistribution::from_notes(sung.iter().copied(), Weight::Seconds);
-    let mut thresholds: Vec<f64> = distribution
-        .points()
-        .iter()
-        .map(|&(midi, _)| midi)
-        .collect();
-    thresholds.dedup();
+    let mut merged: Vec<(f64, f64)> = Vec::new();
+    for &(midi, seconds) in distribution.points() {
+        match merged.last_mut() {
+            Some(last) if last.0 == midi => last.1 += seconds,
+            _ => merged.push((midi, seconds)),
+        }
+    }
+    let thresholds: Vec<f64> = merged.iter().map(|&(midi, _)| midi).collect();
     let sounding = notes
         .iter()
         .filter(|note| note.midi.is_finite())
@@ -218,6 +223,7 @@ pub fn profile_notes(notes: &[Note], config: &FitConfig) -> PartProfile {
     PartProfile {
         stretch_all: longest_stretch(sung.iter().copied(), config.breath_seconds),
         distribution,
+        merged,
         lowest_midi,
         highest_midi,
         stretch_above,
@@ -255,13 +261,10 @@ pub fn fit_profile(
 ) -> PartFit {
     let shift = f64::from(transpose_semitones);
     let band = config.passaggio_band_semitones;
-    let passaggi: Vec<f64> = [singer.primo_midi, singer.secondo_midi]
-        .into_iter()
-        .flatten()
-        .collect();
+    let passaggi = [singer.primo_midi, singer.secondo_midi];
     let (mut above, mut below, mut semitone_seconds) = (0.0, 0.0, 0.0);
     let (mut beyond, mut passaggio, mut passaggio_inside) = (0.0, 0.0, 0.0);
-    for &(written_midi, seconds) in profile.distribution.points() {
+    for &(written_midi, seconds) in &profile.merged {
         let midi = written_midi + shift;
         let over = midi - singer.comfort_high_midi;
         let under = singer.comfort_low_midi - midi;
@@ -276,7 +279,7 @@ pub fn fit_profile(
         if midi < singer.range_low_midi || midi > singer.range_high_midi {
             beyond += seconds;
         }
-        if passaggi.iter().any(|p| (midi - p).abs() <= band) {
+        if passaggi.iter().flatten().any(|p| (midi - p).abs() <= band) {
             passaggio += seconds;
             if inside {
                 passaggio_inside += seconds;
@@ -313,7 +316,7 @@ pub fn fit_profile(
         beyond_range: beyond_flag,
         passaggio_seconds: passaggio,
         passaggio_share: share(passaggio),
-        passaggio_known: !passaggi.is_empty(),
+        passaggio_known: passaggi.iter().any(Option::is_some),
         longest_high_stretch_seconds: stretch,
         part_lowest_midi: lowest,
         part_highest_midi: highest,
@@ -410,7 +413,7 @@ pub fn worst_passages(
     config: &FitConfig,
 ) -> Vec<Passage> {
     let window = config.passage_window_seconds;
-    if config.worst_passages == 0 || !(window > 0.0) {
+    if config.worst_passages == 0 || window.is_nan() || window <= 0.0 {
         return Vec::new();
     }
     let mut outside: Vec<(&Note, f64, bool)> = notes
@@ -533,6 +536,10 @@ pub struct SectionFitConfig {
     pub beyond_range: BeyondRangePolicy,
     pub divisi: DivisiRule,
     pub exclusions: Vec<Exclusion>,
+    /// Leave `SectionFitDetail::pieces` empty (the per-piece, per-line
+    /// figures): for very large rosters, where they would take hundreds of
+    /// MB; the programme-level figures are still filled in.
+    pub skip_piece_details: bool,
 }
 
 /// A singer's fit to one line of one piece.
@@ -806,6 +813,9 @@ fn singer_section_fit(
                 total_weight += weight;
             }
         }
+        if config.skip_piece_details {
+            continue;
+        }
         pieces.push(PieceSectionFit {
             piece: mapping.piece.clone(),
             lines,
@@ -836,4 +846,49 @@ fn singer_section_fit(
         passaggio_share: share(passaggio),
         pieces,
     }
+}
+
+/// One singer on one line of one piece: the record `ambit fit` prints.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+pub struct LineFitRecord {
+    pub singer: String,
+    pub piece: String,
+    /// The part's name, with "(upper)"/"(lower)" for a divisi line.
+    pub part: String,
+    pub role: LineRole,
+    pub fit: PartFit,
+}
+
+/// Every singer against every sung line of a piece: each voice part as
+/// written and, when it divides, its upper and lower lines.
+pub fn piece_fits(roster: &Roster, piece: &Piece, config: &FitConfig) -> Vec<LineFitRecord> {
+    let title = piece
+        .title
+        .clone()
+        .unwrap_or_else(|| "untitled".to_string());
+    let mut lines: Vec<(String, LineRole, &[Note])> = Vec::new();
+    let mut divisi_parts: Vec<(String, LineRole, Part)> = Vec::new();
+    for part in piece.voice_parts() {
+        lines.push((part.name.clone(), LineRole::Whole, &part.notes));
+        if let Some([upper, lower]) = crate::tessitura::split_divisi(part) {
+            divisi_parts.push((upper.name.clone(), LineRole::Upper, upper));
+            divisi_parts.push((lower.name.clone(), LineRole::Lower, lower));
+        }
+    }
+    for (name, role, part) in &divisi_parts {
+        lines.push((name.clone(), *role, &part.notes));
+    }
+    let mut records = Vec::with_capacity(roster.singers.len() * lines.len());
+    for singer in &roster.singers {
+        for (name, role, notes) in &lines {
+            records.push(LineFitRecord {
+                singer: singer.name.clone(),
+                piece: title.clone(),
+                part: name.clone(),
+                role: *role,
+                fit: notes_fit(singer, piece, notes, config),
+            });
+        }
+    }
+    records
 }

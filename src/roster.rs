@@ -432,9 +432,9 @@ fn check_singer(singer: &Singer) -> Result<(), String> {
 fn blame_column(singer: &Singer) -> &'static str {
     if singer.range_low_midi > singer.range_high_midi {
         "range_low"
-    } else if singer.comfort_low_midi > singer.comfort_high_midi {
-        "comfort_low"
-    } else if singer.comfort_low_midi < singer.range_low_midi {
+    } else if singer.comfort_low_midi > singer.comfort_high_midi
+        || singer.comfort_low_midi < singer.range_low_midi
+    {
         "comfort_low"
     } else if singer.comfort_high_midi > singer.range_high_midi {
         "comfort_high"

@@ -30,6 +30,10 @@ pub struct TransposeConfig {
     pub lowest_semitones: i32,
     /// Highest transposition tried (+6 by default).
     pub highest_semitones: i32,
+    /// Fit differences up to this many points (0–100 scale) count as a tie,
+    /// so a key is not moved for a difference nobody could hear in rehearsal;
+    /// among tied keys the smaller move wins.
+    pub equal_fit_points: f64,
     pub section_fit: SectionFitConfig,
 }
 
@@ -38,6 +42,7 @@ impl Default for TransposeConfig {
         TransposeConfig {
             lowest_semitones: -6,
             highest_semitones: 6,
+            equal_fit_points: 1.0,
             section_fit: SectionFitConfig::default(),
         }
     }
@@ -128,6 +133,58 @@ pub enum TransposeError {
     Mapping(#[from] MappingError),
     #[error("no placed singer sings anything in {piece}")]
     NothingSung { piece: String },
+    #[error("{piece}: which part? {message} (voice parts: {parts})")]
+    WhichPart {
+        piece: String,
+        message: String,
+        parts: String,
+    },
+}
+
+/// The line a soloist sings: the voice part named `part_name` (a part or
+/// one of its divisi lines, e.g. "Tenor (upper)"), or the piece's only voice
+/// part. Returns the line's label and notes.
+pub fn soloist_line(
+    piece: &Piece,
+    part_name: Option<&str>,
+) -> Result<(String, Vec<Note>), TransposeError> {
+    let mut lines: Vec<(String, Vec<Note>)> = Vec::new();
+    for part in piece.voice_parts() {
+        lines.push((part.name.clone(), part.notes.clone()));
+        if let Some([upper, lower]) = crate::tessitura::split_divisi(part) {
+            lines.push((upper.name, upper.notes));
+            lines.push((lower.name, lower.notes));
+        }
+    }
+    let voice_parts: Vec<&str> = piece.voice_parts().map(|part| part.name.as_str()).collect();
+    let which = |message: String| TransposeError::WhichPart {
+        piece: piece
+            .title
+            .clone()
+            .unwrap_or_else(|| "the piece".to_string()),
+        message,
+        parts: if voice_parts.is_empty() {
+            "none".to_string()
+        } else {
+            voice_parts
+                .iter()
+                .map(|name| format!("`{name}`"))
+                .collect::<Vec<_>>()
+                .join(", ")
+        },
+    };
+    match part_name {
+        Some(wanted) => lines
+            .into_iter()
+            .find(|(name, _)| name.eq_ignore_ascii_case(wanted.trim()))
+            .ok_or_else(|| which(format!("there is no voice part `{wanted}`"))),
+        None if voice_parts.len() == 1 => lines
+            .into_iter()
+            .next()
+            .ok_or_else(|| which("the piece has no voice part".to_string())),
+        None if voice_parts.is_empty() => Err(which("the piece has no voice part".to_string())),
+        None => Err(which("name the part to sing with --part".to_string())),
+    }
 }
 
 /// Names an interval of `semitones` up or down.
@@ -150,7 +207,7 @@ pub fn interval_name(semitones: i32) -> String {
         return "as written".to_string();
     }
     let size = semitones.unsigned_abs() as usize;
-    let name = if size % 12 == 0 {
+    let name = if size.is_multiple_of(12) {
         format!("{} octave{}", size / 12, if size >= 24 { "s" } else { "" })
     } else if size > 12 {
         format!("octave and a {}", NAMES[size % 12])
@@ -240,19 +297,16 @@ pub fn soloist_keys(
             fit: fit_profile(singer, &profile, semitones, fit_config),
         })
         .collect();
+    let tie = config.equal_fit_points.max(0.0);
+    let top = keys
+        .iter()
+        .map(|key| key.fit.fit)
+        .fold(f64::NEG_INFINITY, f64::max);
+    // The smallest move among the keys within `tie` of the best fit.
     let best_semitones = keys
         .iter()
-        .max_by(|a, b| {
-            a.fit
-                .fit
-                .total_cmp(&b.fit.fit)
-                // Prefer the smaller move on a tie (max_by keeps the last maximum).
-                .then(
-                    b.transpose_semitones
-                        .abs()
-                        .cmp(&a.transpose_semitones.abs()),
-                )
-        })
+        .filter(|key| key.fit.fit >= top - tie)
+        .min_by_key(|key| (key.transpose_semitones.abs(), key.transpose_semitones))
         .map_or(0, |key| key.transpose_semitones);
     SoloistAdvice {
         singer: singer.name.clone(),
@@ -263,11 +317,12 @@ pub fn soloist_keys(
     }
 }
 
+/// A placement: each placed singer with their section.
+pub type Placement = Vec<(Singer, Section)>;
+
 /// The placement recorded in a roster's `section` column: the placed
 /// singers, and the names of the unplaced.
-pub fn roster_placement(
-    roster: &Roster,
-) -> Result<(Vec<(Singer, Section)>, Vec<String>), TransposeError> {
+pub fn roster_placement(roster: &Roster) -> Result<(Placement, Vec<String>), TransposeError> {
     let mut placed = Vec::new();
     let mut unplaced = Vec::new();
     for singer in &roster.singers {
@@ -378,23 +433,27 @@ pub fn choir_keys(
             sections,
         });
     }
-    // Maximise the worst section's mean, then the total, then prefer the smaller move.
-    const TIE: f64 = 1e-9;
-    let best_semitones = keys
+    // Maximise the worst section's mean; among keys within the tie margin of
+    // the best worst-section mean, maximise the total (again with a margin,
+    // per placed singer); then prefer the smaller move.
+    let tie = config.equal_fit_points.max(0.0);
+    let top_worst = keys
         .iter()
-        .fold(None::<&ChoirKey>, |best, candidate| match best {
-            None => Some(candidate),
-            Some(best) => {
-                let better = if (candidate.worst_mean_fit - best.worst_mean_fit).abs() > TIE {
-                    candidate.worst_mean_fit > best.worst_mean_fit
-                } else if (candidate.total_fit - best.total_fit).abs() > TIE {
-                    candidate.total_fit > best.total_fit
-                } else {
-                    candidate.transpose_semitones.abs() < best.transpose_semitones.abs()
-                };
-                Some(if better { candidate } else { best })
-            }
-        })
+        .map(|key| key.worst_mean_fit)
+        .fold(f64::NEG_INFINITY, f64::max);
+    let contenders: Vec<&ChoirKey> = keys
+        .iter()
+        .filter(|key| key.worst_mean_fit >= top_worst - tie)
+        .collect();
+    let top_total = contenders
+        .iter()
+        .map(|key| key.total_fit)
+        .fold(f64::NEG_INFINITY, f64::max);
+    let total_tie = tie * placed.len() as f64;
+    let best_semitones = contenders
+        .iter()
+        .filter(|key| key.total_fit >= top_total - total_tie)
+        .min_by_key(|key| (key.transpose_semitones.abs(), key.transpose_semitones))
         .map_or(0, |key| key.transpose_semitones);
     Ok(ChoirAdvice {
         piece: piece_name,

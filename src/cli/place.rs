@@ -2,6 +2,8 @@
 //! [--lock NAME=SEC]… [--exclude NAME=SEC]… SCORE… [--json]`: the optimal
 //! placement of a roster into a layout's sections over a programme.
 
+use std::fmt::Write as _;
+use std::io::Write as _;
 use std::path::PathBuf;
 
 use anyhow::{Context, bail};
@@ -267,14 +269,27 @@ pub fn run(arguments: PlaceArgs) -> anyhow::Result<()> {
         eprintln!("saved scenario {id} \"{name}\" in the library");
     }
     if arguments.json {
-        println!("{}", serde_json::to_string_pretty(&json)?);
+        write_stdout(&format!("{}\n", serde_json::to_string_pretty(&json)?))
     } else {
-        print_table(&placement);
+        write_stdout(&table(&placement)?)
     }
-    Ok(())
 }
 
-fn print_table(placement: &Placement) {
+/// Writes the whole output at once; a reader that stops early (`| head`)
+/// is not an error.
+fn write_stdout(text: &str) -> anyhow::Result<()> {
+    let mut stdout = std::io::stdout().lock();
+    match stdout
+        .write_all(text.as_bytes())
+        .and_then(|()| stdout.flush())
+    {
+        Err(error) if error.kind() == std::io::ErrorKind::BrokenPipe => Ok(()),
+        result => Ok(result?),
+    }
+}
+
+fn table(placement: &Placement) -> Result<String, std::fmt::Error> {
+    let mut out = String::new();
     let width = placement
         .assignments
         .iter()
@@ -282,41 +297,52 @@ fn print_table(placement: &Placement) {
         .max()
         .unwrap_or(6)
         .max(6);
-    println!("{:<width$}  {:<7}  {:>5}  why", "singer", "section", "fit");
+    writeln!(
+        out,
+        "{:<width$}  {:<7}  {:>5}  why",
+        "singer", "section", "fit"
+    )?;
     for assignment in &placement.assignments {
-        println!(
+        writeln!(
+            out,
             "{:<width$}  {:<7}  {:>5.1}  {}",
             assignment.singer, assignment.section, assignment.fit, assignment.explanation
-        );
+        )?;
     }
-    println!();
-    println!("{:<7}  {:>5}  {:>9}", "section", "count", "mean fit");
+    writeln!(out)?;
+    writeln!(out, "{:<7}  {:>5}  {:>9}", "section", "count", "mean fit")?;
     for section in &placement.sections {
         let mean = section
             .mean_fit
             .map_or_else(|| "-".to_string(), |mean| format!("{mean:.1}"));
-        println!("{:<7}  {:>5}  {:>9}", section.section, section.count, mean);
+        writeln!(
+            out,
+            "{:<7}  {:>5}  {:>9}",
+            section.section, section.count, mean
+        )?;
     }
-    println!("total fit {:.1}", placement.objective);
+    writeln!(out, "total fit {:.1}", placement.objective)?;
     if placement.balance_penalty > 0.0 {
-        println!("balance penalty {:.1}", placement.balance_penalty);
+        writeln!(out, "balance penalty {:.1}", placement.balance_penalty)?;
     }
     if !placement.at_risk.is_empty() {
-        println!();
-        println!("at risk:");
+        writeln!(out)?;
+        writeln!(out, "at risk:")?;
         for risk in &placement.at_risk {
             let reasons: Vec<String> = risk.reasons.iter().map(reason_text).collect();
-            println!(
+            writeln!(
+                out,
                 "  {} in {} (fit {:.1}): {}",
                 risk.singer,
                 risk.section,
                 risk.fit,
                 reasons.join(", ")
-            );
+            )?;
         }
     }
-    println!();
+    writeln!(out)?;
     for caution in cautions() {
-        println!("note: {caution}");
+        writeln!(out, "note: {caution}")?;
     }
+    Ok(out)
 }

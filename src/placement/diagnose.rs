@@ -278,6 +278,13 @@ fn check_set(
                 "the section minima add up to {needed} but only {can_sing} of the \
                  {singer_count} singers can sit in any section"
             )
+        } else if can_sing == singer_count {
+            format!(
+                "{} need{} {needed} singers{} but there are only {singer_count} singers",
+                list(&names, "and"),
+                if set.len() == 1 { "s" } else { "" },
+                if set.len() == 1 { "" } else { " between them" }
+            )
         } else if set.len() == 1 {
             format!(
                 "{} needs {needed} singer{} but only {can_sing} can sing it (allowed and not locked elsewhere)",

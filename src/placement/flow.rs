@@ -249,13 +249,10 @@ impl Solver {
             let label = i128::from(self.cost(singer, section)) - self.potential[section];
             self.relax(section, label, Predecessor::Start);
         }
-        loop {
-            let Some(node) = (0..=sink)
-                .filter(|&node| !self.settled[node] && self.distance[node] != UNREACHED)
-                .min_by_key(|&node| self.distance[node])
-            else {
-                break;
-            };
+        while let Some(node) = (0..=sink)
+            .filter(|&node| !self.settled[node] && self.distance[node] != UNREACHED)
+            .min_by_key(|&node| self.distance[node])
+        {
             self.settled[node] = true;
             if node == sink {
                 break;

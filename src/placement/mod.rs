@@ -33,6 +33,10 @@ pub const FIT_SCALE: f64 = 1e9;
 /// lets callers weight them). Keeps every scaled cost well inside `i64`.
 pub const MAX_ABS_FIT: f64 = 1e4;
 
+/// Most singers in one problem. With `MAX_ABS_FIT` and `MAX_BALANCE` this
+/// keeps every path length in the solver far inside `i128`.
+pub const MAX_SINGERS: usize = 1_000_000;
+
 /// Largest balance weight accepted, in fit points per extra seat.
 pub const MAX_BALANCE: f64 = 1e4;
 
@@ -434,7 +438,12 @@ fn explain(
             "{name}: locked there (fit {chosen_text}); {} would be {other_text}",
             other.section
         )
-    } else if fit >= other.fit {
+    } else if fit == other.fit {
+        format!(
+            "{name}, tied with {}: fit {chosen_text} vs {other_text}",
+            other.section
+        )
+    } else if fit > other.fit {
         format!(
             "{name} over {}: fit {chosen_text} vs {other_text}",
             other.section
@@ -463,8 +472,10 @@ pub fn validate(problem: &PlacementProblem) -> Result<(), PlacementError> {
     if section_count == 0 {
         return invalid("the layout has no sections".into());
     }
-    if singer_count > u32::MAX as usize {
-        return invalid(format!("{singer_count} singers is more than can be placed"));
+    if singer_count > MAX_SINGERS {
+        return invalid(format!(
+            "{singer_count} singers is more than the {MAX_SINGERS} that can be placed at once"
+        ));
     }
     if problem.fit.len() != singer_count {
         return invalid(format!(

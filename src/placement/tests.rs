@@ -569,3 +569,34 @@ proptest! {
         }
     }
 }
+
+#[test]
+fn minima_of_some_sections_above_the_roster_are_named_with_the_roster_size() {
+    // By hand: S, A and T need 3 each (9) from 8 singers who can all sing
+    // anything; B's minimum is 0, so the smallest violated set is {S, A, T}.
+    let mut sized = problem(
+        vec![vec![Some(50.0); 4]; 8],
+        vec![limit(3, 3), limit(3, 3), limit(3, 3), limit(0, 8)],
+    );
+    sized.sections = vec!["S".into(), "A".into(), "T".into(), "B".into()];
+    let Err(PlacementError::Infeasible { reasons }) = place(&sized, &config()) else {
+        panic!("nine seats cannot be filled by eight singers");
+    };
+    assert_eq!(
+        reasons[0].message,
+        "S, A and T need 9 singers between them but there are only 8 singers"
+    );
+}
+
+#[test]
+fn a_tie_is_called_a_tie() {
+    let tied = problem(
+        vec![vec![Some(100.0), Some(100.0)]],
+        vec![SizeLimit::any(), SizeLimit::any()],
+    );
+    let placement = place(&tied, &config()).unwrap();
+    assert_eq!(
+        placement.assignments[0].explanation,
+        "section0, tied with section1: fit 100 vs 100"
+    );
+}

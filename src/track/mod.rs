@@ -1,20 +1,97 @@
 //! Pitch tracking: f0 per frame from mono samples, by YIN (de Cheveigné &
 //! Kawahara 2002) and its probabilistic extension pYIN (Mauch & Dixon 2014).
 //!
-//! Architecture invariant: track takes samples, not files, and knows nothing
-//! about notes, ranges or singers.
+//! Architecture invariant: track takes samples, not files (apart from the
+//! thin [`track_file`]/[`track_files`] wrappers over `audio::decode_file`),
+//! and knows nothing about notes, ranges or singers. Every frame's analysis
+//! is a pure function of the samples around it and the [`TrackConfig`]; the
+//! offline tracker is the streaming tracker run over the whole signal, so the
+//! two give identical frames.
 //!
-//! (Interface fixed first; the tracker is being filled in.)
+//! Layout: `yin` analyses one frame (FFT difference function, candidates);
+//! `hmm` decodes pitch × voicing; `summary` turns a track into the figures a
+//! person reads (duration, voiced share, median and stable pitches).
 
+mod hmm;
+mod summary;
+pub mod yin;
+
+use std::path::{Path, PathBuf};
+
+use rayon::prelude::*;
 use serde::{Deserialize, Serialize};
 use thiserror::Error;
 
-/// Tracker settings.
+use crate::audio::{self, AudioError, DecodeOptions, SignalReport};
+
+pub use summary::{StablePitch, SummaryConfig, TrackSummary, summarise, summarise_with};
+use yin::{Candidate, FrameAnalyser, FrameLayout};
+
+/// The rate audio is resampled to before tracking: 22 050 Hz keeps the top
+/// of the search range (2100 Hz) and its first four harmonics below Nyquist
+/// while halving the work of 44.1 kHz. The audio module owns the figure.
+pub use crate::audio::ANALYSIS_SAMPLE_RATE;
+
+/// Lowest sample rate accepted (telephone band).
+pub const MIN_SAMPLE_RATE: u32 = 8_000;
+/// Highest sample rate accepted (studio rates go to 384 kHz).
+pub const MAX_SAMPLE_RATE: u32 = 384_000;
+/// Lowest fmin accepted: below 30 Hz lies only vocal fry, and the frame
+/// would grow past 65 ms.
+pub const MIN_FMIN_HZ: f64 = 30.0;
+
+/// Which estimator decides each frame.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Default, Serialize, Deserialize)]
+#[serde(rename_all = "lowercase")]
+pub enum TrackMethod {
+    /// pYIN: candidates with probabilities, HMM over pitch × voicing.
+    #[default]
+    Pyin,
+    /// Plain YIN with an absolute threshold, frame by frame.
+    Yin,
+}
+
+/// Tracker settings. Every field is documented with its default in
+/// docs/METHODS.md ("Pitch tracking").
 #[derive(Debug, Clone, Copy, PartialEq, Serialize, Deserialize)]
+#[serde(default)]
 pub struct TrackConfig {
     pub fmin_hz: f64,
     pub fmax_hz: f64,
     pub hop_seconds: f64,
+    pub method: TrackMethod,
+    /// YIN's absolute threshold on the normalised difference (plain YIN
+    /// only; the paper's and librosa.yin's 0.1).
+    pub yin_threshold: f64,
+    /// Integration window, in periods of `fmin_hz` (YIN's W; the paper
+    /// uses W = τmax, i.e. 1).
+    pub integration_periods: f64,
+    /// HMM pitch resolution: 5 bins per semitone = 20-cent bins.
+    pub bins_per_semitone: u32,
+    /// Fastest pitch change the HMM allows, octaves per second (librosa's
+    /// `max_transition_rate`, 35.92).
+    pub max_transition_octaves_per_second: f64,
+    /// Probability of switching between voiced and unvoiced per frame.
+    pub switch_probability: f64,
+    /// Fixed Viterbi lag: each frame is decided once this much later audio
+    /// has been seen.
+    pub viterbi_lag_seconds: f64,
+    /// Frames quieter than this (dBFS, RMS of the integration window) are
+    /// unvoiced whatever their periodicity; `None` switches the gate off.
+    pub voicing_gate_db: Option<f64>,
+    /// Per-frame probability of a voiced jump of exactly one octave (each
+    /// way), an addition to pYIN's HMM so octave leaps are followed at once
+    /// instead of after the triangle's slow climb. Off (0) by default: on
+    /// real singing it costs more in octave errors than it gains (see
+    /// docs/METHODS.md).
+    pub octave_jump_probability: f64,
+    /// Weight c on the candidates in the HMM's emissions: voiced bins get
+    /// c × candidate probability, unvoiced bins (1 − c × voicing
+    /// probability)/n. librosa uses 1, which makes a fully periodic frame
+    /// impossible to call unvoiced, so after an instantaneous octave leap the
+    /// path can stay on the sub-octave for ever; below 1 the path can always
+    /// pass through unvoiced frames (see docs/METHODS.md).
+    pub candidate_trust: f64,
 }
 
 impl Default for TrackConfig {
@@ -23,6 +100,16 @@ impl Default for TrackConfig {
             fmin_hz: 50.0,
             fmax_hz: 2100.0,
             hop_seconds: 0.01,
+            method: TrackMethod::Pyin,
+            yin_threshold: 0.1,
+            integration_periods: 1.0,
+            bins_per_semitone: 5,
+            max_transition_octaves_per_second: 35.92,
+            switch_probability: 0.01,
+            viterbi_lag_seconds: 0.25,
+            voicing_gate_db: Some(-70.0),
+            octave_jump_probability: 0.0,
+            candidate_trust: 0.9,
         }
     }
 }
@@ -56,13 +143,583 @@ pub enum TrackError {
     BadInput(String),
 }
 
-/// Tracks a whole signal offline.
-pub fn track_samples(
-    _samples: &[f32],
-    _sample_rate: u32,
-    _config: &TrackConfig,
-) -> Result<Track, TrackError> {
-    Err(TrackError::BadConfig(
-        "the tracker is not written yet".into(),
-    ))
+/// Checks a configuration against a sample rate.
+pub fn validate(sample_rate: u32, config: &TrackConfig) -> Result<(), TrackError> {
+    let bad = |message: String| Err(TrackError::BadConfig(message));
+    if !(MIN_SAMPLE_RATE..=MAX_SAMPLE_RATE).contains(&sample_rate) {
+        return bad(format!(
+            "sample rate {sample_rate} Hz is outside the usable {MIN_SAMPLE_RATE}–{MAX_SAMPLE_RATE} Hz"
+        ));
+    }
+    let (fmin, fmax) = (config.fmin_hz, config.fmax_hz);
+    if !(fmin.is_finite() && fmax.is_finite()) {
+        return bad(format!("fmin {fmin} Hz and fmax {fmax} Hz must be numbers"));
+    }
+    if fmin < MIN_FMIN_HZ {
+        return bad(format!(
+            "fmin {fmin} Hz is below {MIN_FMIN_HZ} Hz (only vocal fry lies there)"
+        ));
+    }
+    if fmin >= fmax {
+        return bad(format!("fmin {fmin} Hz must be below fmax {fmax} Hz"));
+    }
+    let nyquist = f64::from(sample_rate) / 2.0;
+    if fmax > nyquist {
+        return bad(format!(
+            "fmax {fmax} Hz is above the Nyquist frequency {nyquist} Hz of a {sample_rate} Hz signal"
+        ));
+    }
+    let hop = config.hop_seconds;
+    if !(hop.is_finite() && hop * f64::from(sample_rate) >= 1.0 && hop <= 1.0) {
+        return bad(format!(
+            "hop {hop} s must be between one sample and one second"
+        ));
+    }
+    if !(config.integration_periods.is_finite()
+        && (0.25..=8.0).contains(&config.integration_periods))
+    {
+        return bad(format!(
+            "integration window of {} periods must be 0.25–8",
+            config.integration_periods
+        ));
+    }
+    if !(1..=20).contains(&config.bins_per_semitone) {
+        return bad(format!(
+            "{} pitch bins per semitone must be 1–20",
+            config.bins_per_semitone
+        ));
+    }
+    let unit = |value: f64| value.is_finite() && value > 0.0 && value < 1.0;
+    if !(unit(config.candidate_trust) || config.candidate_trust == 1.0) {
+        return bad("the candidate trust must lie in (0, 1]".into());
+    }
+    if !(config.octave_jump_probability.is_finite()
+        && (0.0..0.5).contains(&config.octave_jump_probability))
+    {
+        return bad("the octave jump probability must lie in 0–0.5".into());
+    }
+    if !unit(config.switch_probability) || !unit(config.yin_threshold) {
+        return bad(
+            "the switch probability and YIN threshold must lie strictly between 0 and 1".into(),
+        );
+    }
+    if !(config.max_transition_octaves_per_second.is_finite()
+        && config.max_transition_octaves_per_second > 0.0)
+    {
+        return bad("the maximum transition rate must be positive".into());
+    }
+    if !(config.viterbi_lag_seconds.is_finite() && config.viterbi_lag_seconds >= 0.0)
+        && config.viterbi_lag_seconds != f64::INFINITY
+    {
+        return bad("the Viterbi lag must be zero or more seconds".into());
+    }
+    if let Some(gate) = config.voicing_gate_db
+        && !gate.is_finite()
+    {
+        return bad("the voicing gate must be a level in dBFS".into());
+    }
+    Ok(())
 }
+
+/// Derived, validated settings shared by the offline and streaming paths.
+#[derive(Debug, Clone, Copy)]
+struct Plan {
+    config: TrackConfig,
+    layout: FrameLayout,
+    /// Frame index in the frame buffer that sits on the frame's centre time.
+    centre_offset: usize,
+    hmm: hmm::HmmParameters,
+}
+
+impl Plan {
+    fn new(sample_rate: u32, config: &TrackConfig) -> Result<Plan, TrackError> {
+        validate(sample_rate, config)?;
+        let layout = FrameLayout::new(
+            sample_rate,
+            config.fmin_hz,
+            config.fmax_hz,
+            config.integration_periods,
+        );
+        let semitones_per_frame =
+            config.max_transition_octaves_per_second * 12.0 * config.hop_seconds;
+        // As librosa.pyin: the triangle spans `semitones_per_frame` in all,
+        // i.e. half of it each way.
+        let half_width = ((semitones_per_frame * f64::from(config.bins_per_semitone) / 2.0).round()
+            as usize)
+            .max(1);
+        let lag_frames = (config.viterbi_lag_seconds / config.hop_seconds)
+            .round()
+            .min(u32::MAX as f64) as usize;
+        Ok(Plan {
+            config: *config,
+            layout,
+            centre_offset: layout.window_start + layout.integration_samples / 2,
+            hmm: hmm::HmmParameters {
+                fmin_hz: config.fmin_hz,
+                fmax_hz: config.fmax_hz,
+                bins_per_semitone: config.bins_per_semitone,
+                transition_half_width: half_width,
+                switch_probability: config.switch_probability,
+                lag_frames,
+                octave_jump_probability: config.octave_jump_probability,
+                candidate_trust: config.candidate_trust,
+            },
+        })
+    }
+
+    /// Sample index of frame `index`'s centre: frames sit at exact multiples
+    /// of the hop in time, on the nearest sample (≤ half a sample off).
+    fn centre_sample(&self, index: usize) -> i64 {
+        (index as f64 * self.config.hop_seconds * f64::from(self.layout.sample_rate)).round() as i64
+    }
+
+    fn frame_time(&self, index: usize) -> f64 {
+        // Rounded to the nanosecond so 0.03 prints as 0.03, not 0.030000000000000002.
+        (index as f64 * self.config.hop_seconds * 1e9).round() / 1e9
+    }
+
+    /// Number of frames whose centre lies within a signal of `length` samples.
+    fn frame_count(&self, length: usize) -> usize {
+        if length == 0 {
+            return 0;
+        }
+        let per_sample = 1.0 / (self.config.hop_seconds * f64::from(self.layout.sample_rate));
+        let mut count = ((length - 1) as f64 * per_sample).floor() as usize + 1;
+        while count > 0 && self.centre_sample(count - 1) > (length - 1) as i64 {
+            count -= 1;
+        }
+        while self.centre_sample(count) <= (length - 1) as i64 {
+            count += 1;
+        }
+        count
+    }
+
+    /// First sample (absolute; may be negative) of frame `index`'s buffer.
+    fn frame_start(&self, index: usize) -> i64 {
+        self.centre_sample(index) - self.centre_offset as i64
+    }
+}
+
+/// Copies frame `index` out of `source` (which holds absolute samples
+/// `source_start..source_start + source.len()`), with zeros outside
+/// `0..signal_end`.
+fn fill_frame(
+    plan: &Plan,
+    index: usize,
+    source: &[f32],
+    source_start: i64,
+    signal_end: i64,
+    frame: &mut [f32],
+) {
+    let start = plan.frame_start(index);
+    for (offset, slot) in frame.iter_mut().enumerate() {
+        let absolute = start + offset as i64;
+        *slot = if absolute < 0 || absolute >= signal_end {
+            0.0
+        } else {
+            usize::try_from(absolute - source_start)
+                .ok()
+                .and_then(|position| source.get(position))
+                .copied()
+                .unwrap_or(0.0)
+        };
+    }
+}
+
+/// One frame's observation, before decoding.
+struct Observation {
+    level_db: f64,
+    voiced_probability: f64,
+    yin: Option<Candidate>,
+}
+
+fn observe(
+    plan: &Plan,
+    analyser: &mut FrameAnalyser,
+    frame: &[f32],
+    candidates: &mut Vec<Candidate>,
+) -> Observation {
+    let start = candidates.len();
+    let summary = analyser.analyse(frame, plan.config.yin_threshold, candidates);
+    let gated = plan
+        .config
+        .voicing_gate_db
+        .is_some_and(|gate| summary.level_db < gate);
+    if gated {
+        candidates.truncate(start);
+    }
+    Observation {
+        level_db: summary.level_db,
+        voiced_probability: if gated {
+            0.0
+        } else {
+            summary.voiced_probability
+        },
+        yin: if gated { None } else { summary.yin },
+    }
+}
+
+/// The per-frame decision stage: pYIN's HMM or plain YIN's threshold.
+enum Decision {
+    Pyin(Box<hmm::Decoder>),
+    Yin { threshold: f64 },
+}
+
+impl Decision {
+    fn new(plan: &Plan) -> Decision {
+        match plan.config.method {
+            TrackMethod::Pyin => Decision::Pyin(Box::new(hmm::Decoder::new(plan.hmm))),
+            TrackMethod::Yin => Decision::Yin {
+                threshold: plan.config.yin_threshold,
+            },
+        }
+    }
+
+    /// Feeds one frame; decided frames go to `out`. Returns the provisional
+    /// estimate of this frame.
+    fn push(
+        &mut self,
+        time: f64,
+        observation: &Observation,
+        candidates: &[Candidate],
+        out: &mut Vec<Frame>,
+    ) -> Frame {
+        match self {
+            Decision::Pyin(decoder) => decoder.push(
+                time,
+                observation.level_db,
+                observation.voiced_probability,
+                candidates,
+                out,
+            ),
+            Decision::Yin { threshold } => {
+                let voiced = observation
+                    .yin
+                    .is_some_and(|estimate| estimate.aperiodicity < *threshold);
+                let frame = Frame {
+                    time,
+                    f0_hz: if voiced {
+                        observation.yin.map(|estimate| estimate.f0_hz)
+                    } else {
+                        None
+                    },
+                    voiced,
+                    confidence: observation.yin.map_or(0.0, |estimate| {
+                        (1.0 - estimate.aperiodicity).clamp(0.0, 1.0)
+                    }),
+                    level_db: observation.level_db,
+                };
+                out.push(frame);
+                frame
+            }
+        }
+    }
+
+    fn finish(&mut self, out: &mut Vec<Frame>) {
+        if let Decision::Pyin(decoder) = self {
+            decoder.finish(out);
+        }
+    }
+}
+
+/// Checks that every sample is a number; names the first that is not.
+fn check_samples(samples: &[f32], sample_rate: u32) -> Result<(), TrackError> {
+    if let Some(index) = samples.iter().position(|sample| !sample.is_finite()) {
+        let value = samples.get(index).copied().unwrap_or(f32::NAN);
+        return Err(TrackError::BadInput(format!(
+            "sample {index} (at {:.3} s) is {value}, not a number; the signal cannot be tracked",
+            index as f64 / f64::from(sample_rate)
+        )));
+    }
+    Ok(())
+}
+
+/// Frames analysed per parallel work item in [`track_samples`].
+const BLOCK_FRAMES: usize = 256;
+
+/// Tracks a whole signal offline.
+///
+/// Frame analysis runs in parallel (rayon) over blocks of frames; decoding
+/// runs in order through the same fixed-lag decoder the
+/// [`StreamingTracker`] uses, so the result equals streaming the signal
+/// through it, frame for frame.
+pub fn track_samples(
+    samples: &[f32],
+    sample_rate: u32,
+    config: &TrackConfig,
+) -> Result<Track, TrackError> {
+    let plan = Plan::new(sample_rate, config)?;
+    check_samples(samples, sample_rate)?;
+    if samples.is_empty() {
+        return Err(TrackError::BadInput(
+            "the signal is empty: there is nothing to track".into(),
+        ));
+    }
+    let frame_count = plan.frame_count(samples.len());
+    let signal_end = samples.len() as i64;
+    let mut decision = Decision::new(&plan);
+    let mut frames = Vec::with_capacity(frame_count);
+    let block_count = frame_count.div_ceil(BLOCK_FRAMES);
+    // Bounded memory: at most this many blocks' candidates are held at once.
+    let blocks_per_round = 64;
+    let mut first_block = 0;
+    while first_block < block_count {
+        let last_block = (first_block + blocks_per_round).min(block_count);
+        let analysed: Vec<(Vec<Observation>, Vec<Candidate>, Vec<usize>)> = (first_block
+            ..last_block)
+            .into_par_iter()
+            .map_init(
+                || {
+                    (
+                        FrameAnalyser::new(plan.layout),
+                        vec![0.0f32; plan.layout.frame_samples],
+                    )
+                },
+                |(analyser, frame), block| {
+                    let start = block * BLOCK_FRAMES;
+                    let end = (start + BLOCK_FRAMES).min(frame_count);
+                    let mut observations = Vec::with_capacity(end - start);
+                    let mut candidates = Vec::new();
+                    let mut bounds = Vec::with_capacity(end - start + 1);
+                    bounds.push(0);
+                    for index in start..end {
+                        fill_frame(&plan, index, samples, 0, signal_end, frame);
+                        observations.push(observe(&plan, analyser, frame, &mut candidates));
+                        bounds.push(candidates.len());
+                    }
+                    (observations, candidates, bounds)
+                },
+            )
+            .collect();
+        for (block_offset, (observations, candidates, bounds)) in analysed.iter().enumerate() {
+            let first_frame = (first_block + block_offset) * BLOCK_FRAMES;
+            for (position, observation) in observations.iter().enumerate() {
+                let range = bounds[position]..bounds[position + 1];
+                decision.push(
+                    plan.frame_time(first_frame + position),
+                    observation,
+                    &candidates[range],
+                    &mut frames,
+                );
+            }
+        }
+        first_block = last_block;
+    }
+    decision.finish(&mut frames);
+    Ok(Track {
+        sample_rate,
+        hop_seconds: config.hop_seconds,
+        frames,
+    })
+}
+
+/// Tracks a signal that arrives in pieces (a microphone).
+///
+/// [`push`](StreamingTracker::push) returns the frames decided so far; a
+/// frame is decided [`latency_seconds`](StreamingTracker::latency_seconds)
+/// after its centre (the frame's second half plus the Viterbi lag). The
+/// frames returned over the whole stream, plus [`finish`](StreamingTracker::finish),
+/// are identical to [`track_samples`] on the concatenated signal. For a live
+/// display, [`provisional`](StreamingTracker::provisional) gives the newest
+/// frame's immediate estimate (the Viterbi filtering estimate, which later
+/// audio may revise).
+///
+/// Non-finite samples (NaN, ±inf) cannot be refused without dropping the
+/// stream; they are analysed as silence (0.0) and counted in
+/// [`non_finite_samples`](StreamingTracker::non_finite_samples).
+pub struct StreamingTracker {
+    plan: Plan,
+    analyser: FrameAnalyser,
+    decision: Decision,
+    /// Samples kept for frames still to analyse, from absolute `buffer_start`.
+    buffer: Vec<f32>,
+    buffer_start: i64,
+    received: i64,
+    next_frame: usize,
+    frame: Vec<f32>,
+    candidates: Vec<Candidate>,
+    provisional: Option<Frame>,
+    non_finite: u64,
+}
+
+impl StreamingTracker {
+    pub fn new(sample_rate: u32, config: &TrackConfig) -> Result<StreamingTracker, TrackError> {
+        let plan = Plan::new(sample_rate, config)?;
+        Ok(StreamingTracker {
+            analyser: FrameAnalyser::new(plan.layout),
+            decision: Decision::new(&plan),
+            buffer: Vec::with_capacity(4 * plan.layout.frame_samples),
+            buffer_start: 0,
+            received: 0,
+            next_frame: 0,
+            frame: vec![0.0; plan.layout.frame_samples],
+            candidates: Vec::new(),
+            provisional: None,
+            non_finite: 0,
+            plan,
+        })
+    }
+
+    /// Delay from a frame's centre time until [`push`](Self::push) returns
+    /// it: the samples after the centre that the frame needs, plus the
+    /// Viterbi lag (plain YIN has no lag).
+    pub fn latency_seconds(&self) -> f64 {
+        let rate = f64::from(self.plan.layout.sample_rate);
+        let ahead = (self.plan.layout.frame_samples - self.plan.centre_offset) as f64 / rate;
+        match self.plan.config.method {
+            TrackMethod::Pyin => {
+                ahead + self.plan.hmm.lag_frames as f64 * self.plan.config.hop_seconds
+            }
+            TrackMethod::Yin => ahead,
+        }
+    }
+
+    /// The newest frame's immediate estimate, before the lag confirms it.
+    pub fn provisional(&self) -> Option<Frame> {
+        self.provisional
+    }
+
+    /// How many NaN or infinite samples were replaced by silence.
+    pub fn non_finite_samples(&self) -> u64 {
+        self.non_finite
+    }
+
+    /// Adds samples; returns every frame decided as a result, in order.
+    pub fn push(&mut self, samples: &[f32]) -> Vec<Frame> {
+        let mut out = Vec::new();
+        self.buffer.reserve(samples.len());
+        for &sample in samples {
+            if sample.is_finite() {
+                self.buffer.push(sample);
+            } else {
+                self.non_finite += 1;
+                self.buffer.push(0.0);
+            }
+        }
+        self.received += samples.len() as i64;
+        // Analyse every frame whose samples have all arrived.
+        let length = self.plan.layout.frame_samples as i64;
+        while self.plan.frame_start(self.next_frame) + length <= self.received {
+            self.analyse_next(i64::MAX, &mut out);
+        }
+        self.discard_consumed();
+        out
+    }
+
+    /// Ends the stream: analyses the last frames (zeros after the end) and
+    /// decides every pending frame.
+    pub fn finish(mut self) -> Vec<Frame> {
+        let mut out = Vec::new();
+        let total = self
+            .plan
+            .frame_count(usize::try_from(self.received).unwrap_or(0));
+        while self.next_frame < total {
+            self.analyse_next(self.received, &mut out);
+        }
+        self.decision.finish(&mut out);
+        out
+    }
+
+    fn analyse_next(&mut self, signal_end: i64, out: &mut Vec<Frame>) {
+        let index = self.next_frame;
+        fill_frame(
+            &self.plan,
+            index,
+            &self.buffer,
+            self.buffer_start,
+            signal_end,
+            &mut self.frame,
+        );
+        self.candidates.clear();
+        let observation = observe(
+            &self.plan,
+            &mut self.analyser,
+            &self.frame,
+            &mut self.candidates,
+        );
+        let time = self.plan.frame_time(index);
+        self.provisional = Some(
+            self.decision
+                .push(time, &observation, &self.candidates, out),
+        );
+        self.next_frame += 1;
+    }
+
+    /// Drops samples no later frame needs.
+    fn discard_consumed(&mut self) {
+        let needed_from = self.plan.frame_start(self.next_frame).max(0);
+        let drop = usize::try_from(needed_from - self.buffer_start)
+            .unwrap_or(0)
+            .min(self.buffer.len());
+        // Drain in large steps only, so pushing one sample at a time stays cheap.
+        if drop > 0 && drop >= self.buffer.len() / 2 {
+            self.buffer.drain(..drop);
+            self.buffer_start += drop as i64;
+        }
+    }
+}
+
+/// A tracked audio file with the decoder's report on its condition.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+pub struct TrackedFile {
+    pub file: PathBuf,
+    pub duration_seconds: f64,
+    pub source_sample_rate: u32,
+    pub report: SignalReport,
+    pub track: Track,
+}
+
+/// Failure to track one file.
+#[derive(Debug, Error)]
+pub enum TrackFileError {
+    #[error(transparent)]
+    Audio(#[from] AudioError),
+    #[error("{}: {source}", file.display())]
+    Track {
+        file: PathBuf,
+        #[source]
+        source: TrackError,
+    },
+}
+
+/// Decodes `path` at [`ANALYSIS_SAMPLE_RATE`] and tracks it.
+pub fn track_file(path: &Path, config: &TrackConfig) -> Result<TrackedFile, TrackFileError> {
+    // A bad configuration is reported before any decoding work.
+    validate(ANALYSIS_SAMPLE_RATE, config).map_err(|source| TrackFileError::Track {
+        file: path.to_path_buf(),
+        source,
+    })?;
+    let decoded = audio::decode_file(
+        path,
+        &DecodeOptions {
+            target_sample_rate: Some(ANALYSIS_SAMPLE_RATE),
+        },
+    )?;
+    let track = track_samples(&decoded.samples, decoded.sample_rate, config).map_err(|source| {
+        TrackFileError::Track {
+            file: path.to_path_buf(),
+            source,
+        }
+    })?;
+    Ok(TrackedFile {
+        file: path.to_path_buf(),
+        duration_seconds: decoded.duration_seconds,
+        source_sample_rate: decoded.source_sample_rate,
+        report: decoded.report,
+        track,
+    })
+}
+
+/// Tracks many files in parallel (rayon), one result per path, in order.
+pub fn track_files<P: AsRef<Path> + Sync>(
+    paths: &[P],
+    config: &TrackConfig,
+) -> Vec<Result<TrackedFile, TrackFileError>> {
+    paths
+        .par_iter()
+        .map(|path| track_file(path.as_ref(), config))
+        .collect()
+}
+
+#[cfg(test)]
+mod tests;
