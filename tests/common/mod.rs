@@ -101,3 +101,18 @@ impl Lcg {
         self.0
     }
 }
+
+/// A deflated zip archive of (name, bytes) entries, built in memory: for
+/// `.mxl` examples and zip bombs that are not worth committing.
+pub fn zip_archive(entries: &[(&str, &[u8])]) -> Vec<u8> {
+    use std::io::Write;
+    let mut writer = zip::ZipWriter::new(std::io::Cursor::new(Vec::new()));
+    let options = zip::write::SimpleFileOptions::default()
+        .compression_method(zip::CompressionMethod::Deflated)
+        .large_file(true);
+    for (name, bytes) in entries {
+        writer.start_file(*name, options).expect("zip entry");
+        writer.write_all(bytes).expect("zip write");
+    }
+    writer.finish().expect("zip finish").into_inner()
+}
