@@ -14,6 +14,7 @@
 pub mod audio;
 pub mod cautions;
 pub mod fit;
+pub mod library;
 pub mod pitch;
 pub mod placement;
 pub mod plan;

@@ -2,6 +2,7 @@
 //! its arguments, calls the engine and formats text or JSON.
 
 mod fit;
+mod library;
 mod parts;
 mod place;
 mod profile;
@@ -28,6 +29,8 @@ pub enum Command {
     Profile(profile::ProfileArgs),
     /// The optimal placement of a roster into a layout's sections over a programme of scores.
     Place(place::PlaceArgs),
+    /// The choir library: singers, auditions, pieces, scenarios, backups.
+    Library(library::LibraryArgs),
     /// How well every singer of a roster fits every part of the scores.
     Fit(fit::FitArgs),
     /// The key in which a piece sits best for a soloist or the placed choir.
@@ -40,6 +43,7 @@ pub fn run(cli: Cli) -> anyhow::Result<()> {
         Command::Track(arguments) => track::run(arguments),
         Command::Profile(arguments) => profile::run(arguments),
         Command::Place(arguments) => place::run(arguments),
+        Command::Library(arguments) => library::run(arguments),
         Command::Fit(arguments) => fit::run(arguments),
         Command::Transpose(arguments) => transpose::run(arguments),
     }

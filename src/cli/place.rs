@@ -21,8 +21,17 @@ use ambit::sections::Layout;
 #[derive(Debug, Args)]
 pub struct PlaceArgs {
     /// The roster: CSV (name, range_low, range_high, comfort_low, comfort_high, …) or Ambit JSON.
+    #[arg(long, required_unless_present = "programme")]
+    pub roster: Option<PathBuf>,
+    /// The choir library to take the roster (and, with --programme, the scores) from.
+    #[arg(long, value_name = "PATH")]
+    pub library: Option<PathBuf>,
+    /// A programme stored in the library: its pieces, in order, are the scores.
     #[arg(long)]
-    pub roster: PathBuf,
+    pub programme: Option<String>,
+    /// Save the placement in the library as a scenario with this name.
+    #[arg(long, value_name = "NAME")]
+    pub save_scenario: Option<String>,
     /// Sections: SATB, SSAATTBB, SSA, SSAA, TTBB, SAB, or a list such as S1,S2,A,T,B.
     #[arg(long)]
     pub layout: String,
@@ -39,7 +48,7 @@ pub struct PlaceArgs {
     #[arg(long)]
     pub balance: Option<f64>,
     /// The programme: score files (MIDI, MusicXML, .mxl).
-    #[arg(required = true)]
+    #[arg(required_unless_present = "programme")]
     pub scores: Vec<PathBuf>,
     /// Print JSON instead of a table.
     #[arg(long)]
@@ -148,11 +157,38 @@ pub fn run(arguments: PlaceArgs) -> anyhow::Result<()> {
         exclusions: pairs("--exclude", &arguments.exclusions)?,
         balance: arguments.balance,
     };
-    let roster = read_roster(&arguments.roster)?;
+    let uses_library = arguments.programme.is_some()
+        || arguments.save_scenario.is_some()
+        || arguments.roster.is_none();
+    let library = if uses_library {
+        let folder = ambit::library::resolve_folder(arguments.library.as_deref())?;
+        Some(ambit::library::Library::open(&folder)?)
+    } else {
+        None
+    };
+    let roster = match (&arguments.roster, &library) {
+        (Some(path), _) => read_roster(path)?,
+        (None, Some(library)) => {
+            let (roster, left_out) = library.roster()?;
+            for name in left_out {
+                eprintln!("note: {name} has no range in the library yet; left out");
+            }
+            roster
+        }
+        (None, None) => bail!("give --roster FILE or --library PATH"),
+    };
     let layout = Layout::parse(&arguments.layout).context("--layout")?;
     let options = ReadOptions::default();
-    let programme = arguments
-        .scores
+    let mut score_paths = arguments.scores.clone();
+    if let (Some(name), Some(library)) = (&arguments.programme, &library) {
+        score_paths.extend(library.programme(name)?.into_iter().map(|piece| piece.path));
+    }
+    if score_paths.is_empty() {
+        bail!(
+            "the programme has no pieces; add some with `ambit library add-piece --programme NAME`"
+        );
+    }
+    let programme = score_paths
         .iter()
         .map(|path| read_score(path, &options))
         .collect::<Result<Vec<_>, _>>()?;
@@ -169,7 +205,7 @@ pub fn run(arguments: PlaceArgs) -> anyhow::Result<()> {
         }
         Err(error) => return Err(error.into()),
     };
-    if arguments.json {
+    let json = {
         let json = PlaceJson {
             layout: matrix.sections.clone(),
             section_fit: matrix
@@ -219,6 +255,20 @@ pub fn run(arguments: PlaceArgs) -> anyhow::Result<()> {
                 .collect(),
             cautions: cautions(),
         };
+        serde_json::to_value(&json)?
+    };
+    if let (Some(name), Some(mut library)) = (&arguments.save_scenario, library) {
+        let id = library.save_scenario(&ambit::library::ScenarioInput {
+            name: name.clone(),
+            programme: arguments.programme.clone(),
+            layout: Some(arguments.layout.clone()),
+            constraints: serde_json::to_value(&constraints)?,
+            result: json.clone(),
+            notes: None,
+        })?;
+        eprintln!("saved scenario {id} \"{name}\" in the library");
+    }
+    if arguments.json {
         write_stdout(&format!("{}\n", serde_json::to_string_pretty(&json)?))
     } else {
         write_stdout(&table(&placement)?)
