@@ -25,6 +25,10 @@ fn main() -> Result<(), Box<dyn std::error::Error>> {
                 config.octave_jump_probability = value()?;
                 index += 1;
             }
+            "--trust" => {
+                config.candidate_trust = value()?;
+                index += 1;
+            }
             "--lag" => {
                 config.viterbi_lag_seconds = value()?;
                 index += 1;

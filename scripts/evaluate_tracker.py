@@ -21,7 +21,8 @@ sections are kept).
 
 import argparse
 import csv
-import os
+import json
+import shlex
 import subprocess
 import sys
 import tempfile
@@ -37,17 +38,31 @@ START = "<!-- pitch-tracker-accuracy:start -->"
 END = "<!-- pitch-tracker-accuracy:end -->"
 
 
-def run_ambit(binary, wav, out_csv, fmin, fmax):
+def run_ambit(binary, wav, out_csv, fmin, fmax, template=None):
+    """Runs the tracker on `wav` and stores its frames as CSV in `out_csv`.
+
+    By default `BINARY track WAV --csv --fmin F --fmax F`. A `template` (e.g.
+    "target/release/examples/track_wav {wav}") replaces that command; its
+    output may be the `--csv` or the `--json` shape.
+    """
+    if template:
+        command = shlex.split(template.format(wav=wav, fmin=fmin, fmax=fmax))
+    else:
+        command = [str(binary), "track", str(wav), "--csv", "--fmin", str(fmin), "--fmax", str(fmax)]
     started = time.perf_counter()
-    result = subprocess.run(
-        [str(binary), "track", str(wav), "--csv", "--fmin", str(fmin), "--fmax", str(fmax)],
-        capture_output=True,
-        text=True,
-    )
+    result = subprocess.run(command, capture_output=True, text=True)
     seconds = time.perf_counter() - started
     if result.returncode != 0:
-        raise SystemExit(f"ambit track {wav} failed:\n{result.stderr}")
-    Path(out_csv).write_text(result.stdout)
+        raise SystemExit(f"{' '.join(command)} failed:\n{result.stderr}")
+    text = result.stdout
+    if text.lstrip().startswith("{"):
+        frames = json.loads(text)["frames"]
+        rows = ["time,f0_hz,voiced"]
+        for frame in frames:
+            f0 = "" if frame["f0_hz"] is None else repr(frame["f0_hz"])
+            rows.append(f"{frame['time']},{f0},{str(frame['voiced']).lower()}")
+        text = "\n".join(rows) + "\n"
+    Path(out_csv).write_text(text)
     return seconds
 
 
@@ -89,6 +104,8 @@ def main():
     parser.add_argument("--fmin", type=float, default=50.0)
     parser.add_argument("--fmax", type=float, default=2100.0)
     parser.add_argument("--write", help="Markdown file whose tracker-accuracy section to replace")
+    parser.add_argument("--tracker-command", help="command template instead of `AMBIT track {wav} --csv`, "
+                        "e.g. 'target/release/examples/track_wav {wav}' (CSV or JSON output)")
     arguments = parser.parse_args()
     eval_dir = Path(arguments.eval_dir)
 
@@ -99,7 +116,7 @@ def main():
             entries = list(csv.DictReader(handle))
         for entry in entries:
             ours_csv = Path(scratch) / f"{entry['name']}.ambit.csv"
-            ambit_seconds += run_ambit(arguments.ambit, eval_dir / entry["wav"], ours_csv, arguments.fmin, arguments.fmax)
+            ambit_seconds += run_ambit(arguments.ambit, eval_dir / entry["wav"], ours_csv, arguments.fmin, arguments.fmax, arguments.tracker_command)
             case = {
                 "name": entry["name"],
                 "wav": str(eval_dir / entry["wav"]),
@@ -121,7 +138,7 @@ def main():
         vocadito_dir = Path(arguments.vocadito)
         if (vocadito_dir / "vocadito_1.wav").exists():
             ours_csv = Path(scratch) / "vocadito_1.ambit.csv"
-            run_ambit(arguments.ambit, vocadito_dir / "vocadito_1.wav", ours_csv, arguments.fmin, arguments.fmax)
+            run_ambit(arguments.ambit, vocadito_dir / "vocadito_1.wav", ours_csv, arguments.fmin, arguments.fmax, arguments.tracker_command)
             vocadito = track_accuracy.evaluate_case({
                 "name": "vocadito_1",
                 "wav": str(vocadito_dir / "vocadito_1.wav"),
@@ -143,7 +160,8 @@ def main():
     command = (
         "cargo build --release && cargo run --release --example make_eval_set -- out/eval-set && "
         "/root/.cache/ambit/venv/bin/python scripts/evaluate_tracker.py target/release/ambit out/eval-set "
-        "--write docs/PERFORMANCE.md"
+        + (f"--tracker-command '{arguments.tracker_command}' " if arguments.tracker_command else "")
+        + "--write docs/PERFORMANCE.md"
     )
     versions = f"librosa {track_accuracy.librosa.__version__}, mir_eval {track_accuracy.mir_eval.__version__}"
     report = [
@@ -171,7 +189,7 @@ def main():
         f"All clean singing ({len(clean)} files): RPA ours {percent(mean(r['ours']['raw_pitch_accuracy'] for r in clean))} %, "
         f"pyin {percent(mean(r['pyin']['raw_pitch_accuracy'] for r in clean))} %.",
         "",
-        f"Time in this run: `ambit track` {ambit_seconds:.1f} s (process start and file decoding included), "
+        f"Wall-clock time in this run on a shared, heavily loaded 2-core machine (not a speed measurement; see the speed section): `ambit track` {ambit_seconds:.1f} s (process start and file decoding included), "
         f"librosa.pyin {pyin_seconds:.1f} s (analysis only), on {audio_seconds:.0f} s of audio.",
         "",
     ]

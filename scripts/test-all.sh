@@ -47,6 +47,9 @@ export AMBIT_PYTHON="$venv/bin/python"
 export AMBIT_REQUIRE_REFERENCES=1
 # music21 writes its settings under the home directory; keep it quiet.
 export MPLBACKEND=Agg
+# numba (under librosa) compiles for the host CPU; on some AVX-512 hosts that
+# code crashes pyin. A generic modern target avoids it without changing results.
+export NUMBA_CPU_NAME=${NUMBA_CPU_NAME:-haswell}
 
 # --- Rust ------------------------------------------------------------------
 export CARGO_TARGET_DIR=${CARGO_TARGET_DIR:-$cache/target}

@@ -14,9 +14,16 @@
 pub mod audio;
 pub mod cautions;
 pub mod demo;
+pub mod fit;
+pub mod library;
 pub mod pitch;
+pub mod placement;
+pub mod plan;
+pub mod roster;
 pub mod score;
+pub mod sections;
 pub mod synth;
 pub mod tessitura;
 pub mod track;
+pub mod transpose;
 pub mod voice;

@@ -93,6 +93,21 @@ pub fn midi_name(midi: i32) -> String {
     format!("{}{}", SHARP_NAMES[pitch_class], octave)
 }
 
+const FLAT_NAMES: [&str; 12] = [
+    "C", "Db", "D", "Eb", "E", "F", "Gb", "G", "Ab", "A", "Bb", "B",
+];
+
+/// Scientific pitch name spelled for a key signature: flats in flat keys
+/// (`key_fifths` < 0), sharps otherwise (70 in F major → "Bb4").
+pub fn midi_name_in_key(midi: i32, key_fifths: i32) -> String {
+    if key_fifths < 0 {
+        let pitch_class = midi.rem_euclid(12) as usize;
+        format!("{}{}", FLAT_NAMES[pitch_class], midi.div_euclid(12) - 1)
+    } else {
+        midi_name(midi)
+    }
+}
+
 /// Name of the nearest semitone to a fractional MIDI number.
 pub fn nearest_name(midi: f64) -> String {
     midi_name(midi.round() as i32)
@@ -226,6 +241,17 @@ mod tests {
         assert_eq!(midi_name(127), "G9");
         assert_eq!(name_with_cents(60.25), "C4 +25¢");
         assert_eq!(name_with_cents(68.9), "A4 -10¢");
+    }
+
+    #[test]
+    fn flat_keys_spell_with_flats() {
+        // F major has one flat (B♭): MIDI 70 is B♭4 there, A♯4 in G major.
+        assert_eq!(midi_name_in_key(70, -1), "Bb4");
+        assert_eq!(midi_name_in_key(70, 1), "A#4");
+        assert_eq!(midi_name_in_key(60, -3), "C4");
+        for midi in 0..=127 {
+            assert_eq!(parse_pitch(&midi_name_in_key(midi, -4)), Ok(midi));
+        }
     }
 
     #[test]

@@ -76,6 +76,12 @@ impl PitchDistribution {
         PitchDistribution { points, total }
     }
 
+    /// The (MIDI pitch, weight) points sorted by pitch, for figures that need
+    /// more than a share (e.g. semitone-seconds beyond a limit in `fit`).
+    pub fn points(&self) -> &[(f64, f64)] {
+        &self.points
+    }
+
     /// Total weight (sung seconds or quarters, every chord tone counted).
     pub fn total(&self) -> f64 {
         self.total
@@ -447,13 +453,27 @@ fn hot_spots(piece: &Piece, sounding: &[&Note], config: &TessituraConfig) -> Vec
     }
     let mut by_height = windows.clone();
     by_height.sort_by(|a, b| b.2.total_cmp(&a.2).then(a.0.total_cmp(&b.0)));
+    // The printed bars a window covers: a repeated passage is the same
+    // hot spot on each pass, so windows sharing printed bars are one spot.
+    let bars_of = |start: f64, end: f64| -> Vec<String> {
+        let first = piece.measure_at_seconds(start);
+        let last = piece.measure_at_seconds((end - 1e-6).max(start));
+        piece.printed_bars(first, last.max(first))
+    };
     let mut chosen: Vec<(f64, f64, f64, HotSpotKind)> = Vec::new();
+    let mut chosen_bars: Vec<Vec<String>> = Vec::new();
     for &(start, end, mean) in &by_height {
         if chosen.len() >= config.high_hot_spots {
             break;
         }
-        if chosen.iter().all(|&(s, e, _, _)| end <= s || start >= e) {
+        let bars = bars_of(start, end);
+        let apart_in_time = chosen.iter().all(|&(s, e, _, _)| end <= s || start >= e);
+        let new_bars = chosen_bars
+            .iter()
+            .all(|taken| !bars.iter().any(|bar| taken.contains(bar)));
+        if apart_in_time && new_bars {
             chosen.push((start, end, mean, HotSpotKind::High));
+            chosen_bars.push(bars);
         }
     }
     if let Some(&(start, end, mean)) = by_height.last()

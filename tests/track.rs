@@ -195,21 +195,28 @@ fn white_noise_is_almost_never_voiced() {
     }
 }
 
-#[test]
-fn octave_jumps_are_followed() {
-    // 220 Hz → 440 Hz → 220 Hz → 110 Hz, 0.6 s each: away from the jumps
-    // (±60 ms) every frame is voiced at the generating frequency ±10 cents.
+/// 220 Hz → 440 Hz → 220 Hz → 110 Hz, 0.6 s each (harmonics 1–5).
+fn octave_leaps() -> (Vec<f32>, impl Fn(f64) -> f64, f64) {
     let segment = 0.6;
     let plan = [220.0, 440.0, 220.0, 110.0];
-    let f0_at = |time: f64| plan[((time / segment) as usize).min(plan.len() - 1)];
+    let f0_at = move |time: f64| plan[((time / segment) as usize).min(plan.len() - 1)];
     let seconds = segment * plan.len() as f64;
-    let samples = harmonic_signal(f0_at, &[1, 2, 3, 4, 5], 22_050, seconds, 0.3);
-    let track = track::track_samples(&samples, 22_050, &TrackConfig::default())
-        .expect("a clean signal tracks");
+    (
+        harmonic_signal(f0_at, &[1, 2, 3, 4, 5], 22_050, seconds, 0.3),
+        f0_at,
+        seconds,
+    )
+}
+
+/// Frames at least `margin` seconds from every octave leap, checked to be
+/// voiced at the generating frequency ±10 cents; returns how many.
+fn check_octave_leaps(config: &TrackConfig, margin: f64) -> usize {
+    let (samples, f0_at, seconds) = octave_leaps();
+    let track = track::track_samples(&samples, 22_050, config).expect("a clean signal tracks");
     let mut checked = 0;
-    for frame in inner_frames(&track, seconds, 0.06) {
-        let from_jump = frame.time % segment;
-        if !(0.06..=segment - 0.06).contains(&from_jump) {
+    for frame in inner_frames(&track, seconds, margin) {
+        let from_leap = frame.time % 0.6;
+        if !(margin..=0.6 - margin).contains(&from_leap) {
             continue;
         }
         let expected = f0_at(frame.time);
@@ -217,12 +224,57 @@ fn octave_jumps_are_followed() {
         let error = cents(expected, frame.f0_hz.unwrap_or(f64::NAN));
         assert!(
             error.abs() <= 10.0,
-            "frame at {:.2} s: {error:+.1} cents from {expected} Hz",
+            "margin {margin} s, frame at {:.2} s: {error:+.1} cents from {expected} Hz",
             frame.time
         );
         checked += 1;
     }
-    assert!(checked > 180, "only {checked} frames checked");
+    checked
+}
+
+#[test]
+fn octave_leaps_are_followed() {
+    // Every frame 60 ms or more from a leap is voiced at the generating
+    // frequency ±10 cents, with the default settings and with the optional
+    // octave-jump transition.
+    let default_checked = check_octave_leaps(&TrackConfig::default(), 0.06);
+    assert!(
+        default_checked > 180,
+        "only {default_checked} frames checked"
+    );
+    let with_jumps = TrackConfig {
+        octave_jump_probability: 0.001,
+        ..TrackConfig::default()
+    };
+    let jump_checked = check_octave_leaps(&with_jumps, 0.06);
+    assert!(jump_checked > 180, "only {jump_checked} frames checked");
+}
+
+#[test]
+fn full_trust_in_the_candidates_sticks_to_the_sub_octave() {
+    // Why candidate_trust is below 1: with librosa's emissions (trust 1) a
+    // fully periodic 440 Hz frame makes every unvoiced state impossible, and
+    // the period of 220 Hz is also a period of 440 Hz, so after the leap
+    // 220 → 440 Hz the path stays at 220 Hz for the whole 0.6 s segment.
+    // (librosa.pyin 0.11 does the same on this signal: median 220.6 Hz over
+    // 0.65–1.15 s, measured when this test was written.)
+    let (samples, _, _) = octave_leaps();
+    let config = TrackConfig {
+        candidate_trust: 1.0,
+        ..TrackConfig::default()
+    };
+    let track = track::track_samples(&samples, 22_050, &config).expect("tracks");
+    let in_segment: Vec<f64> = track
+        .frames
+        .iter()
+        .filter(|frame| (0.7..=1.1).contains(&frame.time))
+        .filter_map(|frame| frame.f0_hz)
+        .collect();
+    assert!(!in_segment.is_empty());
+    assert!(
+        in_segment.iter().all(|&f0| cents(220.0, f0).abs() < 10.0),
+        "expected the sub-octave 220 Hz throughout: {in_segment:?}"
+    );
 }
 
 /// f0 of a vibrato tone: `centre_hz` · 2^(extent_cents/1200 · sin(2π·rate·t)).

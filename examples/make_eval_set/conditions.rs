@@ -5,8 +5,8 @@
 #![allow(dead_code)]
 
 use ambit::synth::{
-    Glide, Noise, NoiseColour, Note, Register, RegisterBreak, Reverb, Segment, Speech,
-    SynthConfig, TractSize, Vibrato, Voice, Vowel,
+    Glide, Noise, NoiseColour, Note, Register, RegisterBreak, Reverb, Segment, Speech, SynthConfig,
+    TractSize, Vibrato, Voice, Vowel,
 };
 
 /// A voice type's singing range and passaggio for the test material.
@@ -28,11 +28,51 @@ pub struct VoiceType {
 }
 
 pub const VOICE_TYPES: [VoiceType; 5] = [
-    VoiceType { name: "bass", tract: TractSize::Man, low_midi: 33.0, high_midi: 62.0, break_midi: 57.0, speaking_midi: 43.0, singers_formant: Some((2_700.0, 0.7)) },
-    VoiceType { name: "baritone", tract: TractSize::Man, low_midi: 43.0, high_midi: 66.0, break_midi: 59.0, speaking_midi: 45.0, singers_formant: Some((2_800.0, 0.7)) },
-    VoiceType { name: "tenor", tract: TractSize::Man, low_midi: 48.0, high_midi: 72.0, break_midi: 62.0, speaking_midi: 48.0, singers_formant: Some((2_900.0, 0.7)) },
-    VoiceType { name: "alto", tract: TractSize::Woman, low_midi: 53.0, high_midi: 77.0, break_midi: 63.0, speaking_midi: 55.0, singers_formant: None },
-    VoiceType { name: "soprano", tract: TractSize::Woman, low_midi: 60.0, high_midi: 89.0, break_midi: 65.0, speaking_midi: 57.0, singers_formant: Some((3_200.0, 0.4)) },
+    VoiceType {
+        name: "bass",
+        tract: TractSize::Man,
+        low_midi: 33.0,
+        high_midi: 62.0,
+        break_midi: 57.0,
+        speaking_midi: 43.0,
+        singers_formant: Some((2_700.0, 0.7)),
+    },
+    VoiceType {
+        name: "baritone",
+        tract: TractSize::Man,
+        low_midi: 43.0,
+        high_midi: 66.0,
+        break_midi: 59.0,
+        speaking_midi: 45.0,
+        singers_formant: Some((2_800.0, 0.7)),
+    },
+    VoiceType {
+        name: "tenor",
+        tract: TractSize::Man,
+        low_midi: 48.0,
+        high_midi: 72.0,
+        break_midi: 62.0,
+        speaking_midi: 48.0,
+        singers_formant: Some((2_900.0, 0.7)),
+    },
+    VoiceType {
+        name: "alto",
+        tract: TractSize::Woman,
+        low_midi: 53.0,
+        high_midi: 77.0,
+        break_midi: 63.0,
+        speaking_midi: 55.0,
+        singers_formant: None,
+    },
+    VoiceType {
+        name: "soprano",
+        tract: TractSize::Woman,
+        low_midi: 60.0,
+        high_midi: 89.0,
+        break_midi: 65.0,
+        speaking_midi: 57.0,
+        singers_formant: Some((3_200.0, 0.4)),
+    },
 ];
 
 /// One recording condition.
@@ -127,17 +167,25 @@ fn range_phrase(voice_type: &VoiceType, note_seconds: f64, count: usize) -> Vec<
     let up: Vec<f64> = (0..count)
         .map(|i| (voice_type.low_midi + span * i as f64 / (count - 1) as f64).round())
         .collect();
-    let pitches: Vec<f64> = up.iter().chain(up.iter().rev().skip(1).step_by(2)).copied().collect();
+    let pitches: Vec<f64> = up
+        .iter()
+        .chain(up.iter().rev().skip(1).step_by(2))
+        .copied()
+        .collect();
     for (index, pitch_midi) in pitches.iter().enumerate() {
         if index > 0 && index % 4 == 0 {
-            segments.push(Segment::Rest { duration_seconds: 0.25 });
+            segments.push(Segment::Rest {
+                duration_seconds: 0.25,
+            });
         }
         segments.push(Segment::Note(Note {
             pitch_midi: *pitch_midi,
             duration_seconds: note_seconds,
             vowel: Vowel::ALL[index % 5],
             level_db: -3.0 * (index % 3) as f64,
-            register: if voice_type.tract == TractSize::Man && *pitch_midi > voice_type.break_midi + 5.0 {
+            register: if voice_type.tract == TractSize::Man
+                && *pitch_midi > voice_type.break_midi + 5.0
+            {
                 Register::Falsetto
             } else {
                 Register::Modal
@@ -148,7 +196,7 @@ fn range_phrase(voice_type: &VoiceType, note_seconds: f64, count: usize) -> Vec<
 }
 
 fn sirens(voice_type: &VoiceType, glide_seconds: f64) -> Vec<Segment> {
-    let low = voice_type.low_midi + 3.0;
+    let low = voice_type.low_midi + 1.0;
     let high = voice_type.high_midi - 1.0;
     let up = Glide {
         from_midi: low,
@@ -157,7 +205,10 @@ fn sirens(voice_type: &VoiceType, glide_seconds: f64) -> Vec<Segment> {
         vowel: Vowel::U,
         level_db: 0.0,
         register: Register::Modal,
-        register_break: Some(RegisterBreak { at_midi: voice_type.break_midi, jump_semitones: 3.0 }),
+        register_break: Some(RegisterBreak {
+            at_midi: voice_type.break_midi,
+            jump_semitones: 3.0,
+        }),
     };
     // Hysteresis: the downward break sits lower than the upward one
     // (Roubeau et al. 2009; brief §4).
@@ -168,22 +219,43 @@ fn sirens(voice_type: &VoiceType, glide_seconds: f64) -> Vec<Segment> {
         vowel: Vowel::A,
         level_db: 0.0,
         register: Register::Falsetto,
-        register_break: Some(RegisterBreak { at_midi: voice_type.break_midi + 1.0, jump_semitones: 3.0 }),
+        register_break: Some(RegisterBreak {
+            at_midi: voice_type.break_midi + 1.0,
+            jump_semitones: 3.0,
+        }),
     };
-    vec![Segment::Glide(up), Segment::Rest { duration_seconds: 0.3 }, Segment::Glide(down)]
+    vec![
+        Segment::Glide(up),
+        Segment::Rest {
+            duration_seconds: 0.3,
+        },
+        Segment::Glide(down),
+    ]
 }
 
 /// The grid. `small` keeps a CI-sized subset with shorter clips.
 pub fn cases(small: bool) -> Vec<Case> {
-    let (note_seconds, note_count, glide_seconds, speech_seconds) =
-        if small { (0.45, 5, 1.6, 2.0) } else { (0.6, 8, 3.0, 4.0) };
+    let (note_seconds, note_count, glide_seconds, speech_seconds) = if small {
+        (0.45, 5, 1.6, 2.0)
+    } else {
+        (0.6, 8, 3.0, 4.0)
+    };
     let voice_types: Vec<VoiceType> = if small {
-        VOICE_TYPES.iter().copied().filter(|v| matches!(v.name, "bass" | "tenor" | "soprano")).collect()
+        VOICE_TYPES
+            .iter()
+            .copied()
+            .filter(|v| matches!(v.name, "bass" | "tenor" | "soprano"))
+            .collect()
     } else {
         VOICE_TYPES.to_vec()
     };
     let conditions: &[Condition] = if small {
-        &[Condition::Vibrato, Condition::GlideBreak, Condition::Snr20, Condition::Rate16k]
+        &[
+            Condition::Vibrato,
+            Condition::GlideBreak,
+            Condition::Snr20,
+            Condition::Rate16k,
+        ]
     } else {
         &Condition::ALL
     };
@@ -204,7 +276,10 @@ pub fn cases(small: bool) -> Vec<Case> {
                 Condition::Vibrato => {}
                 Condition::NoVibrato => voice.vibrato = None,
                 Condition::ScoopsPortamento => {
-                    voice.scoop = Some(ambit::synth::Scoop { depth_cents: 150.0, seconds: 0.12 });
+                    voice.scoop = Some(ambit::synth::Scoop {
+                        depth_cents: 150.0,
+                        seconds: 0.12,
+                    });
                     voice.portamento_seconds = 0.2;
                 }
                 Condition::GlideBreak => segments = sirens(voice_type, glide_seconds),
@@ -223,10 +298,16 @@ pub fn cases(small: bool) -> Vec<Case> {
                         Condition::Snr20 => 20.0,
                         _ => 10.0,
                     };
-                    config.noise = Some(Noise { snr_db, colour: NoiseColour::White });
+                    config.noise = Some(Noise {
+                        snr_db,
+                        colour: NoiseColour::White,
+                    });
                 }
                 Condition::Reverb => {
-                    config.reverb = Some(Reverb { rt60_seconds: 0.7, direct_to_reverberant_db: 3.0 })
+                    config.reverb = Some(Reverb {
+                        rt60_seconds: 0.7,
+                        direct_to_reverberant_db: 3.0,
+                    })
                 }
                 Condition::Rate16k => config.sample_rate = 16_000,
                 Condition::Rate22k => config.sample_rate = 22_050,

@@ -25,8 +25,10 @@ fn main() -> anyhow::Result<()> {
         }
     }
     let out_dir = out_dir.context("usage: make_eval_set OUT_DIR [--small]")?;
-    std::fs::create_dir_all(&out_dir).with_context(|| format!("cannot create {}", out_dir.display()))?;
-    let mut manifest = String::from("name,wav,truth,condition,voice_type,clean_singing,sample_rate,seconds\n");
+    std::fs::create_dir_all(&out_dir)
+        .with_context(|| format!("cannot create {}", out_dir.display()))?;
+    let mut manifest =
+        String::from("name,wav,truth,condition,voice_type,clean_singing,sample_rate,seconds\n");
     for case in conditions::cases(small) {
         let synthesis = ambit::synth::synthesize(&case.voice, &case.segments, &case.config)
             .with_context(|| format!("synthesising {}", case.name))?;
@@ -46,6 +48,7 @@ fn main() -> anyhow::Result<()> {
         eprintln!("{}: {seconds:.1} s", case.name);
     }
     let manifest_path = out_dir.join("manifest.csv");
-    std::fs::write(&manifest_path, manifest).with_context(|| format!("cannot write {}", manifest_path.display()))?;
+    std::fs::write(&manifest_path, manifest)
+        .with_context(|| format!("cannot write {}", manifest_path.display()))?;
     Ok(())
 }

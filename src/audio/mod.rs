@@ -3,21 +3,63 @@
 //!
 //! Architecture invariant: audio knows nothing about pitch. Memory stays
 //! bounded by the chunk size whatever the file's length when read through
-//! [`AudioReader`]; [`decode_file`] holds the whole (resampled, mono) signal.
+//! [`AudioReader`]; [`decode_file`] holds the whole (resampled, mono) signal
+//! and nothing else.
 //!
-//! (Interface fixed first so the tracker can be written against it; the
-//! decoders are being filled in.)
+//! Flow: the file's first bytes decide the route (RIFF/WAVE → our header scan
+//! and hound; anything else → symphonia's content probe). Each block of
+//! interleaved samples is checked for NaN/∞, counted into the report
+//! (clipping and peak per channel), mixed to mono (mean of the channels),
+//! counted again (DC, RMS, frame levels), and resampled (rubato, FFT).
+//! Methods and thresholds: docs/METHODS.md, "Audio input".
 
+mod codec;
+mod report;
+mod resample;
+mod wav;
+
+use std::io::Read;
 use std::path::{Path, PathBuf};
 
 use serde::{Deserialize, Serialize};
 use thiserror::Error;
+
+pub use report::{
+    CLIPPED_SHARE_WARNING, DC_OFFSET_WARNING, FLOOR_DB, MIN_DURATION_SECONDS,
+    NOISE_FLOOR_PERCENTILE, NOISE_FLOOR_WARNING_DB, NOISE_FRAME_SECONDS, SILENCE_PEAK_DB,
+};
+
+/// The rate the analysis stages work at, Hz. 22 050 Hz keeps everything up
+/// to 11 kHz: f0 up to the tracker's 2100 Hz ceiling with five harmonics, and
+/// the singer's-formant band (2.5–3.5 kHz) the voice stage looks at. It is
+/// librosa's default rate, so the reference comparisons run on the same
+/// samples, and the common 44.1 kHz input halves exactly. See
+/// docs/METHODS.md, "Audio input", for the measurements behind the choice.
+pub const ANALYSIS_SAMPLE_RATE: u32 = 22_050;
+/// Files below this rate are refused: telephone-band audio (8 kHz) is the
+/// lowest that still carries a sung voice's lower harmonics.
+pub const MIN_SOURCE_SAMPLE_RATE: u32 = 8_000;
+/// Files above this rate are refused as damaged headers: 384 kHz is the
+/// highest rate common studio interfaces offer.
+pub const MAX_SOURCE_SAMPLE_RATE: u32 = 384_000;
+/// For float and lossy sources, a sample this close to full scale counts as
+/// clipped (integer PCM uses its top code instead).
+pub const FLOAT_CLIP_LEVEL: f32 = 0.9999;
 
 /// How to decode.
 #[derive(Debug, Clone, Copy, PartialEq, Serialize, Deserialize)]
 pub struct DecodeOptions {
     /// Resample to this rate; `None` keeps the file's own rate.
     pub target_sample_rate: Option<u32>,
+}
+
+impl Default for DecodeOptions {
+    /// Resample to [`ANALYSIS_SAMPLE_RATE`].
+    fn default() -> Self {
+        Self {
+            target_sample_rate: Some(ANALYSIS_SAMPLE_RATE),
+        }
+    }
 }
 
 /// A decoded recording, mixed to mono.
@@ -64,10 +106,312 @@ pub enum AudioError {
     Unusable { file: PathBuf, message: String },
 }
 
-/// Decodes a whole file to mono at `options.target_sample_rate`.
-pub fn decode_file(path: &Path, _options: &DecodeOptions) -> Result<Audio, AudioError> {
-    Err(AudioError::Unsupported {
-        file: path.to_path_buf(),
-        message: "audio decoding is not written yet".into(),
+enum Source {
+    Wav(wav::WavSource),
+    Codec(Box<codec::CodecSource>),
+}
+
+/// A file being decoded chunk by chunk: mono samples at the target rate.
+///
+/// Memory is bounded: one source block, one resampler chunk and a fixed
+/// histogram, whatever the length of the file.
+pub struct AudioReader {
+    path: PathBuf,
+    source: Source,
+    source_sample_rate: u32,
+    source_channels: u16,
+    sample_rate: u32,
+    resampler: Option<resample::StreamResampler>,
+    report: report::ReportBuilder,
+    block: Vec<f32>,
+    mono: Vec<f32>,
+    source_frames: u64,
+    non_finite: u64,
+    first_non_finite_frame: Option<u64>,
+    input_done: bool,
+    done: bool,
+    largest_chunk: usize,
+}
+
+/// Opens a file for streaming decode. The header is read and checked here
+/// (format, codec, sample rate, channel count), so a file that cannot be
+/// decoded fails now rather than at the first chunk.
+pub fn open(path: &Path, options: &DecodeOptions) -> Result<AudioReader, AudioError> {
+    let mut magic = [0u8; 12];
+    let got = {
+        let mut f = std::fs::File::open(path).map_err(|source| AudioError::Io {
+            file: path.to_path_buf(),
+            source,
+        })?;
+        read_up_to(&mut f, &mut magic).map_err(|source| AudioError::Io {
+            file: path.to_path_buf(),
+            source,
+        })?
+    };
+    if got == 0 {
+        return Err(AudioError::Unusable {
+            file: path.to_path_buf(),
+            message: "is empty (0 bytes)".into(),
+        });
+    }
+    let (source, rate, channels, clip_level) = if wav::looks_like_wav(&magic[..got]) {
+        match wav::scan(path)? {
+            wav::WavRoute::Hound(header) => {
+                let s = wav::WavSource::open(path, header)?;
+                let (rate, channels, clip) =
+                    (s.header.sample_rate, s.header.channels, s.clip_level());
+                (Source::Wav(s), rate, channels, clip)
+            }
+            wav::WavRoute::Companded => {
+                let s = codec::CodecSource::open(path)?;
+                // µ-law/A-law decode to 16-bit-like steps; their top code is
+                // at 32124/32768 of full scale (ITU-T G.711).
+                let (rate, channels) = (s.sample_rate, s.channels);
+                (Source::Codec(Box::new(s)), rate, channels, 0.98)
+            }
+        }
+    } else {
+        let s = codec::CodecSource::open(path)?;
+        let (rate, channels) = (s.sample_rate, s.channels);
+        (Source::Codec(Box::new(s)), rate, channels, FLOAT_CLIP_LEVEL)
+    };
+    let sample_rate = options.target_sample_rate.unwrap_or(rate);
+    let resampler = if sample_rate == rate {
+        None
+    } else {
+        wav::check_sample_rate(path, sample_rate, " (requested output rate)")?;
+        Some(
+            resample::StreamResampler::new(rate, sample_rate).map_err(|message| {
+                AudioError::Unsupported {
+                    file: path.to_path_buf(),
+                    message,
+                }
+            })?,
+        )
+    };
+    Ok(AudioReader {
+        path: path.to_path_buf(),
+        source,
+        source_sample_rate: rate,
+        source_channels: channels,
+        sample_rate,
+        resampler,
+        report: report::ReportBuilder::new(rate, clip_level),
+        block: Vec::new(),
+        mono: Vec::new(),
+        source_frames: 0,
+        non_finite: 0,
+        first_non_finite_frame: None,
+        input_done: false,
+        done: false,
+        largest_chunk: 0,
+    })
+}
+
+fn read_up_to(f: &mut std::fs::File, buf: &mut [u8]) -> std::io::Result<usize> {
+    let mut filled = 0;
+    while filled < buf.len() {
+        match f.read(&mut buf[filled..]) {
+            Ok(0) => break,
+            Ok(n) => filled += n,
+            Err(e) if e.kind() == std::io::ErrorKind::Interrupted => {}
+            Err(e) => return Err(e),
+        }
+    }
+    Ok(filled)
+}
+
+impl AudioReader {
+    /// Rate of the chunks this reader yields, Hz.
+    pub fn sample_rate(&self) -> u32 {
+        self.sample_rate
+    }
+
+    /// The file's own rate, Hz.
+    pub fn source_sample_rate(&self) -> u32 {
+        self.source_sample_rate
+    }
+
+    /// The file's channel count (chunks are always mono).
+    pub fn source_channels(&self) -> u16 {
+        self.source_channels
+    }
+
+    /// Frames read from the file so far, at the file's own rate.
+    pub fn source_frames(&self) -> u64 {
+        self.source_frames
+    }
+
+    /// Length of the longest chunk yielded so far, samples.
+    pub fn largest_chunk_len(&self) -> usize {
+        self.largest_chunk
+    }
+
+    /// Samples the reader's own buffers can hold now (block, mono mix and
+    /// resampler). Bounded whatever the file length.
+    pub fn buffer_capacity(&self) -> usize {
+        self.block.capacity()
+            + self.mono.capacity()
+            + self.resampler.as_ref().map_or(0, |r| r.buffer_capacity())
+    }
+
+    /// The next chunk of mono samples at [`Self::sample_rate`], or `None` at
+    /// the end. Chunks are non-empty and at most a few thousand samples.
+    pub fn next_chunk(&mut self) -> Result<Option<Vec<f32>>, AudioError> {
+        loop {
+            if self.done {
+                return Ok(None);
+            }
+            if self.input_done {
+                self.done = true;
+                let tail = match self.resampler.as_mut() {
+                    Some(r) => r.finish().map_err(|message| self.malformed(message))?,
+                    None => Vec::new(),
+                };
+                if tail.is_empty() {
+                    return Ok(None);
+                }
+                self.largest_chunk = self.largest_chunk.max(tail.len());
+                return Ok(Some(tail));
+            }
+            let more = match &mut self.source {
+                Source::Wav(s) => s.next_block(&mut self.block),
+                Source::Codec(s) => s.next_block(&self.path, &mut self.block)?,
+            };
+            if !more {
+                self.input_done = true;
+                continue;
+            }
+            let channels = usize::from(self.source_channels.max(1));
+            for (i, x) in self.block.iter_mut().enumerate() {
+                if !x.is_finite() {
+                    *x = 0.0;
+                    self.non_finite += 1;
+                    if self.first_non_finite_frame.is_none() {
+                        self.first_non_finite_frame =
+                            Some(self.source_frames + (i / channels) as u64);
+                    }
+                }
+            }
+            self.report.push_channel_samples(&self.block);
+            self.mono.clear();
+            let inverse = 1.0 / channels as f32;
+            self.mono.extend(
+                self.block
+                    .chunks_exact(channels)
+                    .map(|frame| frame.iter().sum::<f32>() * inverse),
+            );
+            self.report.push_mono(&self.mono);
+            self.source_frames += self.mono.len() as u64;
+            let out = match self.resampler.as_mut() {
+                Some(r) => r
+                    .push(&self.mono)
+                    .map_err(|message| AudioError::Malformed {
+                        file: self.path.clone(),
+                        message,
+                    })?,
+                None => self.mono.clone(),
+            };
+            if !out.is_empty() {
+                self.largest_chunk = self.largest_chunk.max(out.len());
+                return Ok(Some(out));
+            }
+        }
+    }
+
+    fn malformed(&self, message: String) -> AudioError {
+        AudioError::Malformed {
+            file: self.path.clone(),
+            message,
+        }
+    }
+
+    fn seconds_at(&self, frame: u64) -> f64 {
+        frame as f64 / f64::from(self.source_sample_rate.max(1))
+    }
+
+    /// Reads any remaining chunks (discarding them) and returns the signal
+    /// report. Silent, too-short or empty recordings are an
+    /// [`AudioError::Unusable`] naming the file.
+    pub fn finish(mut self) -> Result<SignalReport, AudioError> {
+        while self.next_chunk()?.is_some() {}
+        let mut warnings = Vec::new();
+        match &self.source {
+            Source::Wav(s) => {
+                if let Some(frame) = s.ended_early_at_frame {
+                    let promised = self.seconds_at(s.promised_frames);
+                    let got = self.seconds_at(frame);
+                    let why = if s.present_frames < s.promised_frames {
+                        "the file is truncated"
+                    } else {
+                        "the data could not be read further"
+                    };
+                    warnings.push(format!(
+                        "{why}: the header promises {promised:.2} s of audio but only \
+                         {got:.2} s could be read; the analysis uses what is there"
+                    ));
+                }
+            }
+            Source::Codec(s) => {
+                if let Some(why) = &s.ended_early {
+                    warnings.push(format!(
+                        "decoding stopped early at {:.2} s ({why}); the file may be truncated; \
+                         the analysis uses what is there",
+                        self.seconds_at(self.source_frames)
+                    ));
+                }
+                // Streams of frames (MP3) just end where they are cut; the
+                // container's frame count, when present, shows the cut. The
+                // slack is two MP3 frames (2 × 1152).
+                let promised = s.promised_frames.unwrap_or(0);
+                if s.ended_early.is_none() && s.frames + 2304 < promised {
+                    warnings.push(format!(
+                        "decoding stopped early at {:.2} s (the header promises {:.2} s); the \
+                         file may be truncated; the analysis uses what is there",
+                        self.seconds_at(s.frames),
+                        self.seconds_at(promised)
+                    ));
+                }
+                if s.skipped_packets > 0 {
+                    warnings.push(format!(
+                        "{} damaged {} packets were skipped",
+                        s.skipped_packets, s.codec_name
+                    ));
+                }
+            }
+        }
+        if let Some(frame) = self.first_non_finite_frame {
+            warnings.push(format!(
+                "{} samples were not numbers (NaN or infinite) and were replaced by silence; \
+                         the first is at {:.2} s",
+                self.non_finite,
+                self.seconds_at(frame)
+            ));
+        }
+        self.report
+            .finish(&self.path, self.source_sample_rate, warnings)
+    }
+}
+
+/// Decodes a whole file to mono at `options.target_sample_rate`, through
+/// [`AudioReader`]. Silent, too-short and empty recordings are errors.
+pub fn decode_file(path: &Path, options: &DecodeOptions) -> Result<Audio, AudioError> {
+    let mut reader = open(path, options)?;
+    let mut samples = Vec::new();
+    while let Some(chunk) = reader.next_chunk()? {
+        samples.extend_from_slice(&chunk);
+    }
+    let sample_rate = reader.sample_rate();
+    let source_sample_rate = reader.source_sample_rate();
+    let source_channels = reader.source_channels();
+    let duration_seconds = reader.source_frames() as f64 / f64::from(source_sample_rate.max(1));
+    let report = reader.finish()?;
+    Ok(Audio {
+        samples,
+        sample_rate,
+        source_sample_rate,
+        source_channels,
+        duration_seconds,
+        report,
     })
 }

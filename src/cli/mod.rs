@@ -1,9 +1,13 @@
 //! Command-line interface: one file per subcommand. Each subcommand parses
 //! its arguments, calls the engine and formats text or JSON.
 
+mod fit;
+mod library;
 mod parts;
+mod place;
 mod profile;
 mod track;
+mod transpose;
 
 use clap::{Parser, Subcommand};
 
@@ -23,6 +27,14 @@ pub enum Command {
     Track(track::TrackArgs),
     /// A singer's profile (range, comfort zone, passaggi, voice type, section) from audition recordings.
     Profile(profile::ProfileArgs),
+    /// The optimal placement of a roster into a layout's sections over a programme of scores.
+    Place(place::PlaceArgs),
+    /// The choir library: singers, auditions, pieces, scenarios, backups.
+    Library(library::LibraryArgs),
+    /// How well every singer of a roster fits every part of the scores.
+    Fit(fit::FitArgs),
+    /// The key in which a piece sits best for a soloist or the placed choir.
+    Transpose(transpose::TransposeArgs),
 }
 
 pub fn run(cli: Cli) -> anyhow::Result<()> {
@@ -30,5 +42,9 @@ pub fn run(cli: Cli) -> anyhow::Result<()> {
         Command::Parts(arguments) => parts::run(arguments),
         Command::Track(arguments) => track::run(arguments),
         Command::Profile(arguments) => profile::run(arguments),
+        Command::Place(arguments) => place::run(arguments),
+        Command::Library(arguments) => library::run(arguments),
+        Command::Fit(arguments) => fit::run(arguments),
+        Command::Transpose(arguments) => transpose::run(arguments),
     }
 }

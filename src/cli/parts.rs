@@ -7,7 +7,7 @@ use anyhow::Context;
 use clap::Args;
 use serde::Serialize;
 
-use ambit::pitch::{Tuning, midi_name, nearest_name};
+use ambit::pitch::{Tuning, midi_name_in_key};
 use ambit::score::{PartKind, ReadOptions, read_score};
 use ambit::tessitura::{HotSpotKind, PERCENTILES, PartTessitura, TessituraConfig, analyse_piece};
 
@@ -78,7 +78,8 @@ struct HotSpotJson {
     mean_midi: f64,
 }
 
-fn part_json(part: &PartTessitura) -> PartJson {
+fn part_json(part: &PartTessitura, fifths: i32) -> PartJson {
+    let name = |midi: f64| midi_name_in_key(midi.round() as i32, fifths);
     let keyed = |histogram: &BTreeMap<i32, f64>| {
         histogram
             .iter()
@@ -93,8 +94,8 @@ fn part_json(part: &PartTessitura) -> PartJson {
         sung_quarters: part.sung_quarters,
         lowest_midi: part.lowest_midi.round() as i64,
         highest_midi: part.highest_midi.round() as i64,
-        lowest: nearest_name(part.lowest_midi),
-        highest: nearest_name(part.highest_midi),
+        lowest: name(part.lowest_midi),
+        highest: name(part.highest_midi),
         mean_midi: part.over_seconds.mean_midi,
         sd_semitones: part.over_seconds.sd_semitones,
         percentiles_midi: PERCENTILES
@@ -108,7 +109,7 @@ fn part_json(part: &PartTessitura) -> PartJson {
         histogram_quarters: keyed(&part.histogram_quarters),
         longest_note: LongestJson {
             midi: part.longest_note.midi,
-            name: nearest_name(part.longest_note.midi),
+            name: name(part.longest_note.midi),
             seconds: part.longest_note.seconds,
             bars: part.longest_note.bars.clone(),
         },
@@ -125,7 +126,11 @@ fn part_json(part: &PartTessitura) -> PartJson {
             .collect(),
         time_dose_seconds: part.time_dose_seconds,
         cycle_dose: part.cycle_dose,
-        divisi: part.divisi.iter().map(part_json).collect(),
+        divisi: part
+            .divisi
+            .iter()
+            .map(|line| part_json(line, fifths))
+            .collect(),
     }
 }
 
@@ -141,14 +146,15 @@ pub fn run(arguments: PartsArgs) -> anyhow::Result<()> {
     for path in &arguments.scores {
         let piece = read_score(path, &options)?;
         let parts = analyse_piece(&piece, &config);
+        let fifths = piece.key.map_or(0, |key| key.fifths);
         reports.push(ScoreJson {
             file: path.display().to_string(),
             title: piece.title.clone(),
-            parts: parts.iter().map(part_json).collect(),
+            parts: parts.iter().map(|part| part_json(part, fifths)).collect(),
             warnings: piece.warnings.clone(),
         });
         if !arguments.json {
-            print_table(&reports[reports.len() - 1], &parts);
+            print_table(&reports[reports.len() - 1], &parts, fifths);
         }
     }
     if arguments.json {
@@ -163,16 +169,18 @@ pub fn run(arguments: PartsArgs) -> anyhow::Result<()> {
 }
 
 /// "E4 (C#4–G4)": the mean and the mean ± one SD, as note names.
-fn mean_and_band(mean_midi: f64, sd_semitones: f64) -> String {
+fn mean_and_band(mean_midi: f64, sd_semitones: f64, fifths: i32) -> String {
+    let name = |midi: f64| midi_name_in_key(midi.round() as i32, fifths);
     format!(
         "{} ({}–{})",
-        nearest_name(mean_midi),
-        nearest_name(mean_midi - sd_semitones),
-        nearest_name(mean_midi + sd_semitones)
+        name(mean_midi),
+        name(mean_midi - sd_semitones),
+        name(mean_midi + sd_semitones)
     )
 }
 
-fn print_table(report: &ScoreJson, parts: &[PartTessitura]) {
+fn print_table(report: &ScoreJson, parts: &[PartTessitura], fifths: i32) {
+    let name = |midi: f64| midi_name_in_key(midi.round() as i32, fifths);
     let title = report.title.as_deref().unwrap_or("(untitled)");
     println!("{title} — {}", report.file);
     for warning in &report.warnings {
@@ -193,18 +201,18 @@ fn print_table(report: &ScoreJson, parts: &[PartTessitura]) {
             part.hot_spots
                 .iter()
                 .filter(|spot| spot.kind == kind)
-                .map(|spot| format!("{} ({})", spot.bars, nearest_name(spot.mean_midi)))
+                .map(|spot| format!("{} ({})", spot.bars, name(spot.mean_midi)))
                 .collect::<Vec<_>>()
                 .join(", ")
         };
         rows.push([
             label,
-            format!(
-                "{}–{}",
-                midi_name(part.lowest_midi.round() as i32),
-                midi_name(part.highest_midi.round() as i32)
+            format!("{}–{}", name(part.lowest_midi), name(part.highest_midi)),
+            mean_and_band(
+                part.over_seconds.mean_midi,
+                part.over_seconds.sd_semitones,
+                fifths,
             ),
-            mean_and_band(part.over_seconds.mean_midi, part.over_seconds.sd_semitones),
             format!("{:.1}", part.over_seconds.sd_semitones),
             format!("{:.1}", part.sung_seconds),
             spots(HotSpotKind::High),

@@ -270,7 +270,8 @@ impl Piece {
             .filter(|part| part.kind == PartKind::Voice)
     }
 
-    /// A printed bar range for a span of measure indices, e.g. "12–19" or "7".
+    /// The printed bars of a span of measure indices (performance order),
+    /// as runs: "12–19", "7", or "15–16, 1–4" when the span crosses a repeat.
     pub fn bar_range(&self, first_index: usize, last_index: usize) -> String {
         let number = |index: usize| {
             self.measures
@@ -278,11 +279,41 @@ impl Piece {
                 .map(|measure| measure.number.clone())
                 .unwrap_or_else(|| (index + 1).to_string())
         };
-        if first_index == last_index {
-            number(first_index)
-        } else {
-            format!("{}–{}", number(first_index), number(last_index))
+        let follows =
+            |previous: &str, next: &str| match (previous.parse::<i64>(), next.parse::<i64>()) {
+                (Ok(a), Ok(b)) => b == a + 1,
+                _ => false,
+            };
+        let mut runs: Vec<(String, String)> = Vec::new();
+        for index in first_index..=last_index.max(first_index) {
+            let printed = number(index);
+            match runs.last_mut() {
+                Some((_, end)) if follows(end, &printed) || *end == printed => *end = printed,
+                _ => runs.push((printed.clone(), printed)),
+            }
         }
+        runs.iter()
+            .map(|(start, end)| {
+                if start == end {
+                    start.clone()
+                } else {
+                    format!("{start}–{end}")
+                }
+            })
+            .collect::<Vec<_>>()
+            .join(", ")
+    }
+
+    /// The printed bar numbers of a span of measure indices.
+    pub fn printed_bars(&self, first_index: usize, last_index: usize) -> Vec<String> {
+        (first_index..=last_index.max(first_index))
+            .map(|index| {
+                self.measures
+                    .get(index)
+                    .map(|measure| measure.number.clone())
+                    .unwrap_or_else(|| (index + 1).to_string())
+            })
+            .collect()
     }
 
     /// Index of the measure sounding at `seconds` (the last one starting at or before it).
@@ -320,6 +351,38 @@ mod tests {
             Some(Format::MusicXml)
         );
         assert_eq!(sniff_format(b"%PDF-1.4"), None);
+    }
+
+    fn piece_with_bars(numbers: &[&str]) -> Piece {
+        Piece {
+            title: None,
+            parts: Vec::new(),
+            measures: numbers
+                .iter()
+                .enumerate()
+                .map(|(index, number)| Measure {
+                    number: number.to_string(),
+                    onset_seconds: index as f64 * 2.0,
+                    onset_quarters: index as f64 * 4.0,
+                    duration_quarters: 4.0,
+                })
+                .collect(),
+            key: None,
+            warnings: Vec::new(),
+        }
+    }
+
+    #[test]
+    fn bar_ranges_follow_the_printed_numbers_across_repeats() {
+        // Bars 1–4 repeated, then 5–6: performance order 1 2 3 4 1 2 3 4 5 6.
+        let piece = piece_with_bars(&["1", "2", "3", "4", "1", "2", "3", "4", "5", "6"]);
+        assert_eq!(piece.bar_range(0, 3), "1–4");
+        assert_eq!(piece.bar_range(2, 5), "3–4, 1–2");
+        assert_eq!(piece.bar_range(8, 8), "5");
+        // A pickup numbered 0 runs into bar 1.
+        let pickup = piece_with_bars(&["0", "1", "2"]);
+        assert_eq!(pickup.bar_range(0, 2), "0–2");
+        assert_eq!(pickup.measure_at_seconds(2.5), 1);
     }
 
     #[test]

@@ -116,7 +116,8 @@ pub struct Voice {
     pub vibrato: Option<Vibrato>,
     /// Scoop into notes that start after silence.
     pub scoop: Option<Scoop>,
-    /// Length of the pitch transition between legato notes.
+    /// Length of the pitch transition between legato notes; never shorter
+    /// than the fastest pitch change a voice can make (Xu & Sun 2002).
     pub portamento_seconds: f64,
     /// Raise F1 to follow f0 when f0 exceeds it (sopranos; Joliveau et al. 2004).
     pub formant_tuning: bool,

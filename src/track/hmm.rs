@@ -6,8 +6,8 @@
 //! between bins a triangular window of half-width `w` bins (row-normalised,
 //! no wrap), times 1 − p_switch for staying voiced/unvoiced and p_switch for
 //! switching. Emissions: a voiced bin gets the summed probability of the
-//! frame's candidates falling in it; every unvoiced bin gets
-//! (1 − voicing probability)/n.
+//! frame's candidates falling in it, times a trust factor c; every unvoiced
+//! bin gets (1 − c · voicing probability)/n.
 //!
 //! Decoding is fixed-lag Viterbi: after frame t the best state at t is traced
 //! back `lag` frames and frame t − lag is decided for good. Offline and
@@ -36,6 +36,10 @@ pub struct HmmParameters {
     /// Probability of a voiced jump of exactly one octave up (and the same
     /// down) per frame; 0 leaves only the triangular moves.
     pub octave_jump_probability: f64,
+    /// Weight on the candidates' probabilities in the emissions (pYIN's
+    /// "YIN trust"): voiced bins get trust × mass, unvoiced bins
+    /// (1 − trust × voicing probability)/n. 1 is librosa's choice.
+    pub candidate_trust: f64,
 }
 
 /// Everything the decoder keeps about a frame until it is decided.
@@ -71,12 +75,17 @@ pub struct Decoder {
     from_voiced_to_voiced: Vec<bool>,
     from_voiced_to_unvoiced: Vec<bool>,
     best: Vec<f32>,
-    arg: Vec<u32>,
+    /// Winning offset per bin, as f32 so the select shares the score's mask.
+    arg: Vec<f32>,
     emission: Vec<f32>,
     pending: VecDeque<PendingFrame>,
     spare: Vec<PendingFrame>,
     started: bool,
 }
+
+/// Bins handled per inner-loop chunk (fixed width so the compiler emits
+/// SIMD compare-and-select).
+const LANES: usize = 8;
 
 /// Floor for log-probabilities of impossible events (librosa adds the
 /// smallest positive float before taking logs).
@@ -115,7 +124,8 @@ impl Decoder {
                 (local_share.ln() - sum.ln()) as f32
             })
             .collect();
-        let padded = bins + 2 * half;
+        // Room for whole SIMD-width chunks past the last bin.
+        let padded = bins.next_multiple_of(LANES) + 2 * half;
         Decoder {
             bins,
             log_triangle: triangle.iter().map(|&weight| safe_ln(weight)).collect(),
@@ -128,8 +138,8 @@ impl Decoder {
             into_unvoiced: vec![f32::NEG_INFINITY; padded],
             from_voiced_to_voiced: vec![false; bins],
             from_voiced_to_unvoiced: vec![false; bins],
-            best: vec![0.0; bins],
-            arg: vec![0; bins],
+            best: vec![0.0; bins.next_multiple_of(LANES)],
+            arg: vec![0.0; bins.next_multiple_of(LANES)],
             emission: vec![0.0; 2 * bins],
             pending: VecDeque::new(),
             spare: Vec::new(),
@@ -174,13 +184,26 @@ impl Decoder {
             let bin = bin_of(&parameters, bins, candidate.f0_hz);
             slot.candidates.push((bin, *candidate));
             if let Some(mass) = voiced_mass.get_mut(bin) {
-                *mass += candidate.probability as f32;
+                *mass += (parameters.candidate_trust * candidate.probability) as f32;
             }
         }
+        // Logs only where there is mass (a handful of bins), not over the
+        // whole grid: the logarithm is the costliest step of a frame here.
+        // Empty bins first, then each touched bin once (its log is ≤ 0).
         for value in voiced_mass.iter_mut() {
-            *value = safe_ln(f64::from(*value));
+            if *value == 0.0 {
+                *value = LOG_FLOOR;
+            }
         }
-        let unvoiced = safe_ln((1.0 - voiced_probability).max(0.0) / bins as f64);
+        for &(bin, _) in &slot.candidates {
+            if let Some(value) = voiced_mass.get_mut(bin)
+                && *value > 0.0
+            {
+                *value = safe_ln(f64::from(*value));
+            }
+        }
+        let unvoiced =
+            safe_ln((1.0 - parameters.candidate_trust * voiced_probability).max(0.0) / bins as f64);
         self.emission[bins..].fill(unvoiced);
 
         if !self.started {
@@ -257,18 +280,25 @@ impl Decoder {
             // Max-plus convolution with the triangle, written offset-major so
             // the inner loop over bins vectorises (compare and select).
             self.best.fill(f32::NEG_INFINITY);
-            self.arg.fill(0);
+            self.arg.fill(0.0);
+            // `arg` holds the winning offset; branch-free selects keep the
+            // loop vectorisable.
             for (offset, &weight) in self.log_triangle.iter().enumerate() {
-                let shifted = &source_scores[offset..offset + bins];
-                for (bin, (&score, (best, arg))) in shifted
-                    .iter()
-                    .zip(self.best.iter_mut().zip(self.arg.iter_mut()))
-                    .enumerate()
+                let shifted = &source_scores[offset..offset + self.best.len()];
+                let offset_tag = offset as f32;
+                for ((best, arg), score) in self
+                    .best
+                    .chunks_exact_mut(LANES)
+                    .zip(self.arg.chunks_exact_mut(LANES))
+                    .zip(shifted.chunks_exact(LANES))
                 {
-                    let candidate = score + weight;
-                    if candidate > *best {
-                        *best = candidate;
-                        *arg = (bin + offset) as u32;
+                    for lane in 0..LANES {
+                        let candidate = score[lane] + weight;
+                        let kept = best[lane];
+                        // 1.0 where this offset wins (ties keep the earlier).
+                        let take = f32::from(u8::from(candidate > kept));
+                        best[lane] = kept.max(candidate);
+                        arg[lane] += take * (offset_tag - arg[lane]);
                     }
                 }
             }
@@ -283,7 +313,9 @@ impl Decoder {
                         let candidate = source_scores[half + source] + self.log_octave;
                         if candidate > self.best[bin] {
                             self.best[bin] = candidate;
-                            self.arg[bin] = (half + source) as u32;
+                            // As an offset: source = bin + offset − half.
+                            // (Negative for a jump up from below.)
+                            self.arg[bin] = half as f32 + source as f32 - bin as f32;
                         }
                     }
                 }
@@ -295,9 +327,10 @@ impl Decoder {
                 &self.from_voiced_to_voiced
             };
             for bin in 0..bins {
-                // Padded index → source bin (the padding is −∞, never chosen
-                // while any real source is finite; clamp for safety).
-                let source = (self.arg[bin] as usize).saturating_sub(half).min(bins - 1);
+                // Offset → source bin (the padding is −∞, never chosen while
+                // any real source is finite; clamp for safety).
+                let source = (bin as i64 + self.arg[bin] as i64 - half as i64)
+                    .clamp(0, bins as i64 - 1) as usize;
                 let source_state = if from_voiced[source] {
                     source
                 } else {

@@ -29,9 +29,8 @@ use yin::{Candidate, FrameAnalyser, FrameLayout};
 
 /// The rate audio is resampled to before tracking: 22 050 Hz keeps the top
 /// of the search range (2100 Hz) and its first four harmonics below Nyquist
-/// while halving the work of 44.1 kHz. (Defined here until the audio module
-/// exposes its own `ANALYSIS_SAMPLE_RATE`.)
-pub const ANALYSIS_SAMPLE_RATE: u32 = 22_050;
+/// while halving the work of 44.1 kHz. The audio module owns the figure.
+pub use crate::audio::ANALYSIS_SAMPLE_RATE;
 
 /// Lowest sample rate accepted (telephone band).
 pub const MIN_SAMPLE_RATE: u32 = 8_000;
@@ -82,8 +81,17 @@ pub struct TrackConfig {
     pub voicing_gate_db: Option<f64>,
     /// Per-frame probability of a voiced jump of exactly one octave (each
     /// way), an addition to pYIN's HMM so octave leaps are followed at once
-    /// instead of after the triangle's slow climb; 0 switches it off.
+    /// instead of after the triangle's slow climb. Off (0) by default: on
+    /// real singing it costs more in octave errors than it gains (see
+    /// docs/METHODS.md).
     pub octave_jump_probability: f64,
+    /// Weight c on the candidates in the HMM's emissions: voiced bins get
+    /// c × candidate probability, unvoiced bins (1 − c × voicing
+    /// probability)/n. librosa uses 1, which makes a fully periodic frame
+    /// impossible to call unvoiced, so after an instantaneous octave leap the
+    /// path can stay on the sub-octave for ever; below 1 the path can always
+    /// pass through unvoiced frames (see docs/METHODS.md).
+    pub candidate_trust: f64,
 }
 
 impl Default for TrackConfig {
@@ -100,7 +108,8 @@ impl Default for TrackConfig {
             switch_probability: 0.01,
             viterbi_lag_seconds: 0.25,
             voicing_gate_db: Some(-70.0),
-            octave_jump_probability: 0.001,
+            octave_jump_probability: 0.0,
+            candidate_trust: 0.9,
         }
     }
 }
@@ -181,6 +190,9 @@ pub fn validate(sample_rate: u32, config: &TrackConfig) -> Result<(), TrackError
         ));
     }
     let unit = |value: f64| value.is_finite() && value > 0.0 && value < 1.0;
+    if !(unit(config.candidate_trust) || config.candidate_trust == 1.0) {
+        return bad("the candidate trust must lie in (0, 1]".into());
+    }
     if !(config.octave_jump_probability.is_finite()
         && (0.0..0.5).contains(&config.octave_jump_probability))
     {
@@ -250,6 +262,7 @@ impl Plan {
                 switch_probability: config.switch_probability,
                 lag_frames,
                 octave_jump_probability: config.octave_jump_probability,
+                candidate_trust: config.candidate_trust,
             },
         })
     }
@@ -671,6 +684,11 @@ pub enum TrackFileError {
 
 /// Decodes `path` at [`ANALYSIS_SAMPLE_RATE`] and tracks it.
 pub fn track_file(path: &Path, config: &TrackConfig) -> Result<TrackedFile, TrackFileError> {
+    // A bad configuration is reported before any decoding work.
+    validate(ANALYSIS_SAMPLE_RATE, config).map_err(|source| TrackFileError::Track {
+        file: path.to_path_buf(),
+        source,
+    })?;
     let decoded = audio::decode_file(
         path,
         &DecodeOptions {

@@ -36,7 +36,7 @@ use timbre::{SpectralMeasures, SpectrumAnalyser, median_measures};
 use types::{Evidence, VoiceType, classify, rank_sections};
 
 /// Sample rate recordings are analysed at.
-pub const PROFILE_SAMPLE_RATE: u32 = 22_050;
+pub const PROFILE_SAMPLE_RATE: u32 = audio::ANALYSIS_SAMPLE_RATE;
 
 /// The audition tasks.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, Hash, PartialOrd, Ord, Serialize, Deserialize)]

@@ -19,13 +19,22 @@ counts for raw pitch accuracy only if the tracker voices it and is within
 
 import csv
 import json
+import os
 import sys
 import time
 
-import librosa
-import mir_eval
-import numpy as np
-import soundfile
+# numba (under librosa) caches compiled code beside librosa's sources by
+# default; a cache written concurrently by another process there has been
+# seen to crash pyin with a segmentation fault. Keep our own cache instead.
+os.environ.setdefault(
+    "NUMBA_CACHE_DIR",
+    os.path.join(os.environ.get("AMBIT_CACHE", os.path.expanduser("~/.cache/ambit")), "numba-track-accuracy"),
+)
+
+import librosa  # noqa: E402
+import mir_eval  # noqa: E402
+import numpy as np  # noqa: E402
+import soundfile  # noqa: E402
 
 HOP_SECONDS = 0.01
 

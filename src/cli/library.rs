@@ -1,0 +1,545 @@
+//! `ambit library …`: the choir library on disk. Each subcommand opens the
+//! library, calls the engine where something must be measured (profiles,
+//! part analyses), and hands finished values to `ambit::library` to store.
+
+use std::path::{Path, PathBuf};
+
+use anyhow::{Context, bail};
+use clap::{Args, Subcommand};
+
+use ambit::cautions::cautions;
+use ambit::library::{
+    AuditionInput, ImportPlan, Library, PieceInput, RecordingInput, ScenarioInput, SingerSource,
+    resolve_folder, today,
+};
+use ambit::pitch::nearest_name;
+use ambit::roster::roster_to_csv;
+use ambit::score::{ReadOptions, read_score};
+use ambit::sections::{Layout, MappingConfig, map_piece};
+use ambit::tessitura::{TessituraConfig, analyse_piece};
+use ambit::voice::{ProfileConfig, Task, load_recordings, profile};
+
+#[derive(Debug, Args)]
+pub struct LibraryArgs {
+    /// The library folder (default: AMBIT_LIBRARY, else the OS data directory).
+    #[arg(long, global = true, value_name = "PATH")]
+    pub library: Option<PathBuf>,
+    #[command(subcommand)]
+    pub command: LibraryCommand,
+}
+
+#[derive(Debug, Subcommand)]
+pub enum LibraryCommand {
+    /// Create the library (or open and migrate an existing one).
+    Init,
+    /// Where the library is and what it holds.
+    Info {
+        #[arg(long)]
+        json: bool,
+    },
+    /// Add or update singers from a roster CSV (or Ambit JSON): all or nothing.
+    ImportRoster {
+        roster: PathBuf,
+        /// Show what would be added, changed and skipped; change nothing.
+        #[arg(long)]
+        dry_run: bool,
+        #[arg(long)]
+        json: bool,
+    },
+    /// Write the active singers' current ranges as a roster CSV (stdout without --out).
+    ExportRoster {
+        #[arg(long, value_name = "FILE")]
+        out: Option<PathBuf>,
+    },
+    /// Measure an audition from task recordings and store the profile and the recordings.
+    AddAudition {
+        /// The singer (added if new).
+        name: String,
+        /// The day of the audition, YYYY-MM-DD (default: today).
+        #[arg(long)]
+        date: Option<String>,
+        #[arg(long, value_name = "FILE")]
+        speech: Vec<PathBuf>,
+        #[arg(long, value_name = "FILE")]
+        glide: Vec<PathBuf>,
+        #[arg(long, value_name = "FILE")]
+        scale: Vec<PathBuf>,
+        #[arg(long, value_name = "FILE")]
+        sustain: Vec<PathBuf>,
+        #[arg(long, value_name = "FILE")]
+        song: Vec<PathBuf>,
+        #[arg(long)]
+        json: bool,
+    },
+    /// List the singers with their current range.
+    Singers {
+        /// Include archived singers.
+        #[arg(long)]
+        all: bool,
+        #[arg(long)]
+        json: bool,
+    },
+    /// A singer's measured profiles over time.
+    History {
+        name: String,
+        #[arg(long)]
+        json: bool,
+    },
+    /// Copy a score into the library with its part analysis.
+    AddPiece {
+        score: PathBuf,
+        /// Title (default: the score's title, else the file name).
+        #[arg(long)]
+        title: Option<String>,
+        /// Append the piece to this programme (created if new).
+        #[arg(long)]
+        programme: Option<String>,
+        /// Store the section mapping for this layout (SATB, SSAATTBB, …).
+        #[arg(long)]
+        layout: Option<String>,
+    },
+    /// List pieces, or the pieces of one programme in order.
+    Pieces {
+        #[arg(long)]
+        programme: Option<String>,
+    },
+    /// Save a placement scenario from `ambit place --json` output.
+    SaveScenario {
+        name: String,
+        /// The placement JSON (from `ambit place … --json`).
+        #[arg(long, value_name = "FILE")]
+        result: PathBuf,
+        #[arg(long)]
+        programme: Option<String>,
+        /// The constraints used, as JSON (sizes, locks, exclusions).
+        #[arg(long, value_name = "FILE")]
+        constraints: Option<PathBuf>,
+        #[arg(long)]
+        notes: Option<String>,
+    },
+    /// List saved placement scenarios, newest first.
+    Scenarios {
+        #[arg(long)]
+        json: bool,
+    },
+    /// Write the whole library (database, recordings, scores) to one zip file.
+    Backup { out: PathBuf },
+    /// Replace the library with a backup, after checking every file's hash.
+    Restore { backup: PathBuf },
+    /// Delete a singer: their rows and their recording files.
+    DeleteSinger {
+        name: String,
+        /// Confirm; without it the command only says what would go.
+        #[arg(long)]
+        yes: bool,
+    },
+    /// Export one person's data (rows as JSON and recordings) into a new folder.
+    ExportSinger {
+        name: String,
+        #[arg(long, value_name = "DIR")]
+        out: PathBuf,
+    },
+}
+
+fn open(folder: &Path) -> anyhow::Result<Library> {
+    Ok(Library::open(folder)?)
+}
+
+fn print_plan(plan: &ImportPlan, dry_run: bool) {
+    let verb = if dry_run { "would be" } else { "were" };
+    println!(
+        "{} added, {} changed, {} unchanged ({verb} applied)",
+        plan.added.len(),
+        plan.changed.len(),
+        plan.skipped.len()
+    );
+    for name in &plan.added {
+        println!("  + {name}");
+    }
+    for change in &plan.changed {
+        println!("  ~ {}: {}", change.name, change.fields.join("; "));
+    }
+    for name in &plan.skipped {
+        println!("  = {name}");
+    }
+}
+
+pub fn run(arguments: LibraryArgs) -> anyhow::Result<()> {
+    let folder = resolve_folder(arguments.library.as_deref())?;
+    match arguments.command {
+        LibraryCommand::Init => {
+            let library = Library::create(&folder)?;
+            println!(
+                "library ready at {} (schema version {})",
+                folder.display(),
+                library.schema_version()?
+            );
+        }
+        LibraryCommand::Info { json } => {
+            let info = open(&folder)?.info()?;
+            if json {
+                println!("{}", serde_json::to_string_pretty(&info)?);
+            } else {
+                println!("library      {}", info.folder);
+                println!("schema       version {}", info.schema_version);
+                println!(
+                    "singers      {} active, {} archived",
+                    info.singers, info.archived_singers
+                );
+                println!("auditions    {}", info.auditions);
+                println!(
+                    "recordings   {} files, {} bytes",
+                    info.recordings, info.recording_bytes
+                );
+                println!(
+                    "pieces       {} in {} programmes",
+                    info.pieces, info.programmes
+                );
+                println!("scenarios    {}", info.scenarios);
+            }
+        }
+        LibraryCommand::ImportRoster {
+            roster,
+            dry_run,
+            json,
+        } => {
+            let mut library = open(&folder)?;
+            let plan = library.import_roster_file(&roster, dry_run)?;
+            if json {
+                println!("{}", serde_json::to_string_pretty(&plan)?);
+            } else {
+                print_plan(&plan, dry_run);
+            }
+        }
+        LibraryCommand::ExportRoster { out } => {
+            let library = open(&folder)?;
+            let (roster, left_out) = library.roster()?;
+            let text = roster_to_csv(&roster)?;
+            match out {
+                Some(path) => std::fs::write(&path, text)
+                    .with_context(|| format!("{}: cannot write", path.display()))?,
+                None => print!("{text}"),
+            }
+            for name in left_out {
+                eprintln!(
+                    "note: {name} has no range yet (no audition, nothing typed in); left out"
+                );
+            }
+        }
+        LibraryCommand::AddAudition {
+            name,
+            date,
+            speech,
+            glide,
+            scale,
+            sustain,
+            song,
+            json,
+        } => {
+            let mut library = open(&folder)?;
+            let held_on = date.unwrap_or_else(today);
+            let mut recordings = Vec::new();
+            for (task, files) in [
+                (Task::Speech, speech),
+                (Task::Glide, glide),
+                (Task::Scale, scale),
+                (Task::Sustain, sustain),
+                (Task::Song, song),
+            ] {
+                recordings.extend(files.into_iter().map(|path| RecordingInput { task, path }));
+            }
+            if recordings.is_empty() {
+                bail!(
+                    "give at least one recording: --speech, --glide, --scale, --sustain or --song FILE"
+                );
+            }
+            let tasks: Vec<(Task, &Path)> = recordings
+                .iter()
+                .map(|recording| (recording.task, recording.path.as_path()))
+                .collect();
+            let loaded = load_recordings(&tasks)
+                .into_iter()
+                .collect::<Result<Vec<_>, _>>()?;
+            let measured = profile(&loaded, &ProfileConfig::default())?;
+            let input = AuditionInput {
+                singer: name.clone(),
+                held_on,
+                recordings,
+                profile: measured,
+            };
+            let id = library.add_audition(&input)?;
+            if json {
+                println!(
+                    "{}",
+                    serde_json::to_string_pretty(&serde_json::json!({
+                        "audition_id": id,
+                        "singer": name,
+                        "held_on": input.held_on,
+                        "profile": input.profile,
+                    }))?
+                );
+            } else {
+                let measured = &input.profile;
+                println!("stored audition {id} of {name} on {}", input.held_on);
+                println!(
+                    "  range         {} – {}",
+                    measured.range.low, measured.range.high
+                );
+                println!(
+                    "  comfort zone  {} – {}",
+                    measured.comfort.span.low, measured.comfort.span.high
+                );
+                println!(
+                    "  voice type    {} ({:.0} %), section {}",
+                    measured.voice_type.label,
+                    measured.voice_type.confidence * 100.0,
+                    measured.section
+                );
+                for caution in &measured.cautions {
+                    println!("note: {caution}");
+                }
+            }
+        }
+        LibraryCommand::Singers { all, json } => {
+            let singers = open(&folder)?.singers(all)?;
+            if json {
+                println!("{}", serde_json::to_string_pretty(&singers)?);
+            } else {
+                let width = singers
+                    .iter()
+                    .map(|s| s.name.chars().count())
+                    .max()
+                    .unwrap_or(4)
+                    .max(4);
+                println!(
+                    "{:<width$}  {:<7}  {:<9}  {:<9}  {:<9}  auditions",
+                    "name", "section", "range", "comfort", "from"
+                );
+                for singer in &singers {
+                    let (range, comfort) = match &singer.current {
+                        Some(current) => (
+                            format!(
+                                "{}–{}",
+                                nearest_name(current.range_low_midi),
+                                nearest_name(current.range_high_midi)
+                            ),
+                            format!(
+                                "{}–{}",
+                                nearest_name(current.comfort_low_midi),
+                                nearest_name(current.comfort_high_midi)
+                            ),
+                        ),
+                        None => ("-".into(), "-".into()),
+                    };
+                    let from = match singer.source {
+                        SingerSource::Typed => "typed in",
+                        SingerSource::Measured => "measured",
+                        SingerSource::None => "-",
+                    };
+                    let section = singer
+                        .section
+                        .clone()
+                        .or_else(|| singer.current.as_ref().and_then(|c| c.section.clone()))
+                        .unwrap_or_else(|| "-".into());
+                    let archived = if singer.archived { "  (archived)" } else { "" };
+                    println!(
+                        "{:<width$}  {:<7}  {:<9}  {:<9}  {:<9}  {}{archived}",
+                        singer.name, section, range, comfort, from, singer.auditions
+                    );
+                }
+            }
+        }
+        LibraryCommand::History { name, json } => {
+            let history = open(&folder)?.history(&name)?;
+            if json {
+                println!("{}", serde_json::to_string_pretty(&history)?);
+            } else if history.is_empty() {
+                println!("{name} has no auditions yet");
+            } else {
+                println!(
+                    "{:<10}  {:<9}  {:<9}  {:<14}  section",
+                    "date", "range", "comfort", "voice type"
+                );
+                for entry in &history {
+                    let profile = &entry.profile;
+                    println!(
+                        "{:<10}  {:<9}  {:<9}  {:<14}  {}",
+                        entry.held_on,
+                        format!("{}–{}", profile.range.low, profile.range.high),
+                        format!("{}–{}", profile.comfort.span.low, profile.comfort.span.high),
+                        profile.voice_type.label,
+                        profile.section
+                    );
+                }
+                println!();
+                for caution in cautions() {
+                    println!("note: {caution}");
+                }
+            }
+        }
+        LibraryCommand::AddPiece {
+            score,
+            title,
+            programme,
+            layout,
+        } => {
+            let mut library = open(&folder)?;
+            let piece = read_score(&score, &ReadOptions::default())?;
+            let analysis = analyse_piece(&piece, &TessituraConfig::default());
+            let mapping = match layout {
+                Some(layout) => {
+                    let layout = Layout::parse(&layout).context("--layout")?;
+                    Some(serde_json::to_value(map_piece(
+                        &piece,
+                        0,
+                        &layout,
+                        &MappingConfig::default(),
+                    )?)?)
+                }
+                None => None,
+            };
+            let title = title
+                .or_else(|| piece.title.clone())
+                .or_else(|| {
+                    score
+                        .file_stem()
+                        .map(|stem| stem.to_string_lossy().into_owned())
+                })
+                .unwrap_or_else(|| "untitled".into());
+            let input = PieceInput {
+                title: title.clone(),
+                score,
+                analysis: serde_json::to_value(&analysis)?,
+                mapping,
+            };
+            let id = library.add_piece(&input, programme.as_deref())?;
+            match programme {
+                Some(programme) => {
+                    println!("stored piece {id} \"{title}\" in programme \"{programme}\"")
+                }
+                None => println!("stored piece {id} \"{title}\""),
+            }
+        }
+        LibraryCommand::Pieces { programme } => {
+            let library = open(&folder)?;
+            let pieces = match programme {
+                Some(programme) => library.programme(&programme)?,
+                None => library.pieces()?,
+            };
+            for piece in pieces {
+                println!(
+                    "{:>4}  {}  ({})",
+                    piece.id, piece.title, piece.original_name
+                );
+            }
+        }
+        LibraryCommand::SaveScenario {
+            name,
+            result,
+            programme,
+            constraints,
+            notes,
+        } => {
+            let mut library = open(&folder)?;
+            let read_json = |path: &Path| -> anyhow::Result<serde_json::Value> {
+                let text = std::fs::read(path)
+                    .with_context(|| format!("{}: cannot read", path.display()))?;
+                serde_json::from_slice(&text)
+                    .with_context(|| format!("{}: not JSON", path.display()))
+            };
+            let result = read_json(&result)?;
+            let layout = result
+                .get("layout")
+                .and_then(|layout| layout.as_array())
+                .map(|sections| {
+                    sections
+                        .iter()
+                        .filter_map(|section| section.as_str())
+                        .collect::<Vec<_>>()
+                        .join(",")
+                });
+            let constraints = match constraints {
+                Some(path) => read_json(&path)?,
+                None => serde_json::json!({}),
+            };
+            let id = library.save_scenario(&ScenarioInput {
+                name: name.clone(),
+                programme,
+                layout,
+                constraints,
+                result,
+                notes,
+            })?;
+            println!("saved scenario {id} \"{name}\"");
+        }
+        LibraryCommand::Scenarios { json } => {
+            let scenarios = open(&folder)?.scenarios()?;
+            if json {
+                println!("{}", serde_json::to_string_pretty(&scenarios)?);
+            } else {
+                for scenario in scenarios {
+                    println!(
+                        "{:>4}  {}  {}  programme {}  layout {}{}",
+                        scenario.id,
+                        scenario.saved_at,
+                        scenario.name,
+                        scenario.programme.as_deref().unwrap_or("-"),
+                        scenario.layout.as_deref().unwrap_or("-"),
+                        scenario
+                            .notes
+                            .map(|notes| format!("  ({notes})"))
+                            .unwrap_or_default()
+                    );
+                }
+            }
+        }
+        LibraryCommand::Backup { out } => {
+            let manifest = open(&folder)?.backup(&out)?;
+            println!(
+                "backed up {} files to {} (schema version {})",
+                manifest.entries.len(),
+                out.display(),
+                manifest.schema_version
+            );
+        }
+        LibraryCommand::Restore { backup } => {
+            let manifest = Library::restore(&backup, &folder)?;
+            println!(
+                "restored {} files from {} into {} (every hash checked)",
+                manifest.entries.len(),
+                backup.display(),
+                folder.display()
+            );
+        }
+        LibraryCommand::DeleteSinger { name, yes } => {
+            let mut library = open(&folder)?;
+            let id = library.singer_id(&name)?;
+            if !yes {
+                let auditions = library
+                    .singers(true)?
+                    .into_iter()
+                    .find(|singer| singer.id == id)
+                    .map_or(0, |singer| singer.auditions);
+                println!(
+                    "would delete {name}: their details, typed-in ranges, {auditions} auditions and the recordings no one else shares; add --yes to delete"
+                );
+                return Ok(());
+            }
+            let removed = library.delete_singer(&name)?;
+            println!("deleted {name} and {removed} recording files");
+        }
+        LibraryCommand::ExportSinger { name, out } => {
+            if out.exists() {
+                bail!("{}: already exists; give a new folder", out.display());
+            }
+            let export = open(&folder)?.export_person(&name, &out)?;
+            println!(
+                "exported {} ({} auditions) to {}",
+                export.singer.name,
+                export.auditions.len(),
+                out.display()
+            );
+        }
+    }
+    Ok(())
+}

@@ -1,0 +1,348 @@
+//! `ambit place --roster ROSTER --layout LAYOUT [--size SEC=MIN..MAX]…
+//! [--lock NAME=SEC]… [--exclude NAME=SEC]… SCORE… [--json]`: the optimal
+//! placement of a roster into a layout's sections over a programme.
+
+use std::fmt::Write as _;
+use std::io::Write as _;
+use std::path::PathBuf;
+
+use anyhow::{Context, bail};
+use clap::Args;
+use serde::Serialize;
+
+use ambit::cautions::cautions;
+use ambit::fit::{SectionFitConfig, section_fit_matrix};
+use ambit::placement::{Placement, PlacementConfig, PlacementError, RiskReason, SizeLimit, place};
+use ambit::plan::{PlanConstraints, placement_problem};
+use ambit::roster::read_roster;
+use ambit::score::{ReadOptions, read_score};
+use ambit::sections::Layout;
+
+#[derive(Debug, Args)]
+pub struct PlaceArgs {
+    /// The roster: CSV (name, range_low, range_high, comfort_low, comfort_high, …) or Ambit JSON.
+    #[arg(long, required_unless_present = "programme")]
+    pub roster: Option<PathBuf>,
+    /// The choir library to take the roster (and, with --programme, the scores) from.
+    #[arg(long, value_name = "PATH")]
+    pub library: Option<PathBuf>,
+    /// A programme stored in the library: its pieces, in order, are the scores.
+    #[arg(long)]
+    pub programme: Option<String>,
+    /// Save the placement in the library as a scenario with this name.
+    #[arg(long, value_name = "NAME")]
+    pub save_scenario: Option<String>,
+    /// Sections: SATB, SSAATTBB, SSA, SSAA, TTBB, SAB, or a list such as S1,S2,A,T,B.
+    #[arg(long)]
+    pub layout: String,
+    /// Section size: SECTION=MIN..MAX, SECTION=N (exactly), SECTION=MIN.. or SECTION=..MAX.
+    #[arg(long = "size", value_name = "SECTION=MIN..MAX")]
+    pub sizes: Vec<String>,
+    /// Keep a singer in a section.
+    #[arg(long = "lock", value_name = "NAME=SECTION")]
+    pub locks: Vec<String>,
+    /// Keep a singer out of a section.
+    #[arg(long = "exclude", value_name = "NAME=SECTION")]
+    pub exclusions: Vec<String>,
+    /// Prefer even section sizes: each extra seat in a section costs this many fit points more than the last.
+    #[arg(long)]
+    pub balance: Option<f64>,
+    /// The programme: score files (MIDI, MusicXML, .mxl).
+    #[arg(required_unless_present = "programme")]
+    pub scores: Vec<PathBuf>,
+    /// Print JSON instead of a table.
+    #[arg(long)]
+    pub json: bool,
+}
+
+#[derive(Serialize)]
+struct PlaceJson {
+    layout: Vec<String>,
+    section_fit: Vec<PairJson>,
+    assignments: Vec<AssignmentJson>,
+    objective: f64,
+    sections: Vec<SectionJson>,
+    at_risk: Vec<AtRiskJson>,
+    cautions: Vec<String>,
+}
+
+#[derive(Serialize)]
+struct PairJson {
+    singer: String,
+    section: String,
+    fit: Option<f64>,
+}
+
+#[derive(Serialize)]
+struct AssignmentJson {
+    singer: String,
+    section: String,
+    fit: f64,
+}
+
+#[derive(Serialize)]
+struct SectionJson {
+    section: String,
+    count: usize,
+    /// `null` for an empty section.
+    mean_fit: Option<f64>,
+}
+
+#[derive(Serialize)]
+struct AtRiskJson {
+    singer: String,
+    section: String,
+    fit: f64,
+    reasons: Vec<String>,
+}
+
+/// "NAME=VALUE", split at the last '=' so names may contain one.
+fn split_pair<'a>(option: &str, text: &'a str) -> anyhow::Result<(&'a str, &'a str)> {
+    match text.rsplit_once('=') {
+        Some((name, value)) if !name.trim().is_empty() && !value.trim().is_empty() => {
+            Ok((name.trim(), value.trim()))
+        }
+        _ => bail!("{option} {text}: expected NAME=SECTION"),
+    }
+}
+
+/// "T1=3..5", "T1=4", "T1=3..", "T1=..5".
+fn parse_size(text: &str) -> anyhow::Result<(String, SizeLimit)> {
+    let (section, range) = split_pair("--size", text)?;
+    let number = |part: &str, default: usize| -> anyhow::Result<usize> {
+        let part = part.trim();
+        if part.is_empty() {
+            return Ok(default);
+        }
+        part.parse()
+            .with_context(|| format!("--size {text}: `{part}` is not a whole number of singers"))
+    };
+    let limit = match range.split_once("..") {
+        Some((low, high)) => SizeLimit {
+            min: number(low, 0)?,
+            max: number(high, usize::MAX)?,
+        },
+        None => SizeLimit::exactly(number(range, 0)?),
+    };
+    if limit.min > limit.max {
+        bail!("--size {text}: the minimum is above the maximum");
+    }
+    Ok((section.to_string(), limit))
+}
+
+fn pairs(option: &str, texts: &[String]) -> anyhow::Result<Vec<(String, String)>> {
+    texts
+        .iter()
+        .map(|text| {
+            split_pair(option, text).map(|(name, section)| (name.to_string(), section.to_string()))
+        })
+        .collect()
+}
+
+fn reason_text(reason: &RiskReason) -> String {
+    match reason {
+        RiskReason::LowFit { threshold } => format!("fit below {threshold:.0}"),
+        RiskReason::BeyondRange => "sings beyond their range".into(),
+    }
+}
+
+pub fn run(arguments: PlaceArgs) -> anyhow::Result<()> {
+    let constraints = PlanConstraints {
+        sizes: arguments
+            .sizes
+            .iter()
+            .map(|text| parse_size(text))
+            .collect::<anyhow::Result<_>>()?,
+        locks: pairs("--lock", &arguments.locks)?,
+        exclusions: pairs("--exclude", &arguments.exclusions)?,
+        balance: arguments.balance,
+    };
+    let uses_library = arguments.programme.is_some()
+        || arguments.save_scenario.is_some()
+        || arguments.roster.is_none();
+    let library = if uses_library {
+        let folder = ambit::library::resolve_folder(arguments.library.as_deref())?;
+        Some(ambit::library::Library::open(&folder)?)
+    } else {
+        None
+    };
+    let roster = match (&arguments.roster, &library) {
+        (Some(path), _) => read_roster(path)?,
+        (None, Some(library)) => {
+            let (roster, left_out) = library.roster()?;
+            for name in left_out {
+                eprintln!("note: {name} has no range in the library yet; left out");
+            }
+            roster
+        }
+        (None, None) => bail!("give --roster FILE or --library PATH"),
+    };
+    let layout = Layout::parse(&arguments.layout).context("--layout")?;
+    let options = ReadOptions::default();
+    let mut score_paths = arguments.scores.clone();
+    if let (Some(name), Some(library)) = (&arguments.programme, &library) {
+        score_paths.extend(library.programme(name)?.into_iter().map(|piece| piece.path));
+    }
+    if score_paths.is_empty() {
+        bail!(
+            "the programme has no pieces; add some with `ambit library add-piece --programme NAME`"
+        );
+    }
+    let programme = score_paths
+        .iter()
+        .map(|path| read_score(path, &options))
+        .collect::<Result<Vec<_>, _>>()?;
+    let matrix = section_fit_matrix(&roster, &programme, &layout, &SectionFitConfig::default())?;
+    let problem = placement_problem(&matrix, &constraints)?;
+    let placement = match place(&problem, &PlacementConfig::default()) {
+        Ok(placement) => placement,
+        Err(PlacementError::Infeasible { reasons }) => {
+            let lines: Vec<String> = reasons
+                .iter()
+                .map(|reason| format!("  - {}", reason.message))
+                .collect();
+            bail!("no placement meets every constraint:\n{}", lines.join("\n"));
+        }
+        Err(error) => return Err(error.into()),
+    };
+    let json = {
+        let json = PlaceJson {
+            layout: matrix.sections.clone(),
+            section_fit: matrix
+                .singers
+                .iter()
+                .zip(&matrix.fit)
+                .flat_map(|(singer, row)| {
+                    matrix
+                        .sections
+                        .iter()
+                        .zip(row)
+                        .map(|(section, fit)| PairJson {
+                            singer: singer.clone(),
+                            section: section.clone(),
+                            fit: *fit,
+                        })
+                })
+                .collect(),
+            assignments: placement
+                .assignments
+                .iter()
+                .map(|assignment| AssignmentJson {
+                    singer: assignment.singer.clone(),
+                    section: assignment.section.clone(),
+                    fit: assignment.fit,
+                })
+                .collect(),
+            objective: placement.objective,
+            sections: placement
+                .sections
+                .iter()
+                .map(|section| SectionJson {
+                    section: section.section.clone(),
+                    count: section.count,
+                    mean_fit: section.mean_fit,
+                })
+                .collect(),
+            at_risk: placement
+                .at_risk
+                .iter()
+                .map(|risk| AtRiskJson {
+                    singer: risk.singer.clone(),
+                    section: risk.section.clone(),
+                    fit: risk.fit,
+                    reasons: risk.reasons.iter().map(reason_text).collect(),
+                })
+                .collect(),
+            cautions: cautions(),
+        };
+        serde_json::to_value(&json)?
+    };
+    if let (Some(name), Some(mut library)) = (&arguments.save_scenario, library) {
+        let id = library.save_scenario(&ambit::library::ScenarioInput {
+            name: name.clone(),
+            programme: arguments.programme.clone(),
+            layout: Some(arguments.layout.clone()),
+            constraints: serde_json::to_value(&constraints)?,
+            result: json.clone(),
+            notes: None,
+        })?;
+        eprintln!("saved scenario {id} \"{name}\" in the library");
+    }
+    if arguments.json {
+        write_stdout(&format!("{}\n", serde_json::to_string_pretty(&json)?))
+    } else {
+        write_stdout(&table(&placement)?)
+    }
+}
+
+/// Writes the whole output at once; a reader that stops early (`| head`)
+/// is not an error.
+fn write_stdout(text: &str) -> anyhow::Result<()> {
+    let mut stdout = std::io::stdout().lock();
+    match stdout
+        .write_all(text.as_bytes())
+        .and_then(|()| stdout.flush())
+    {
+        Err(error) if error.kind() == std::io::ErrorKind::BrokenPipe => Ok(()),
+        result => Ok(result?),
+    }
+}
+
+fn table(placement: &Placement) -> Result<String, std::fmt::Error> {
+    let mut out = String::new();
+    let width = placement
+        .assignments
+        .iter()
+        .map(|assignment| assignment.singer.chars().count())
+        .max()
+        .unwrap_or(6)
+        .max(6);
+    writeln!(
+        out,
+        "{:<width$}  {:<7}  {:>5}  why",
+        "singer", "section", "fit"
+    )?;
+    for assignment in &placement.assignments {
+        writeln!(
+            out,
+            "{:<width$}  {:<7}  {:>5.1}  {}",
+            assignment.singer, assignment.section, assignment.fit, assignment.explanation
+        )?;
+    }
+    writeln!(out)?;
+    writeln!(out, "{:<7}  {:>5}  {:>9}", "section", "count", "mean fit")?;
+    for section in &placement.sections {
+        let mean = section
+            .mean_fit
+            .map_or_else(|| "-".to_string(), |mean| format!("{mean:.1}"));
+        writeln!(
+            out,
+            "{:<7}  {:>5}  {:>9}",
+            section.section, section.count, mean
+        )?;
+    }
+    writeln!(out, "total fit {:.1}", placement.objective)?;
+    if placement.balance_penalty > 0.0 {
+        writeln!(out, "balance penalty {:.1}", placement.balance_penalty)?;
+    }
+    if !placement.at_risk.is_empty() {
+        writeln!(out)?;
+        writeln!(out, "at risk:")?;
+        for risk in &placement.at_risk {
+            let reasons: Vec<String> = risk.reasons.iter().map(reason_text).collect();
+            writeln!(
+                out,
+                "  {} in {} (fit {:.1}): {}",
+                risk.singer,
+                risk.section,
+                risk.fit,
+                reasons.join(", ")
+            )?;
+        }
+    }
+    writeln!(out)?;
+    for caution in cautions() {
+        writeln!(out, "note: {caution}")?;
+    }
+    Ok(out)
+}
