@@ -12,14 +12,14 @@ pub mod choir;
 use rayon::prelude::*;
 
 use crate::pitch::{Tuning, hz_to_midi};
+use crate::synth::Note as SungNote;
 use crate::synth::{
     Glide, Register, RegisterBreak, Segment, Speech, SynthConfig, SynthError, Synthesis, TractSize,
     Vibrato, Voice, Vowel, synthesize,
 };
-use crate::synth::Note as SungNote;
 use crate::track::{TrackConfig, track_samples};
-use crate::voice::{PROFILE_SAMPLE_RATE, Recording, Task};
 use crate::voice::types::VoiceType;
+use crate::voice::{PROFILE_SAMPLE_RATE, Recording, Task};
 
 pub use choir::{DEMO_CHOIR, DemoSinger};
 
@@ -85,7 +85,10 @@ pub fn task_segments(singer: &DemoSinger, task: Task) -> Vec<Segment> {
         })],
         Task::Glide => {
             // From a tone above the bottom to a tone under the top, and back.
-            let (low, high) = (singer.range_low_midi + 2.0, singer.range_high_midi - 1.0);
+            // A siren may go past the held top in the upper register; it
+            // always goes far enough to cross the break.
+            let low = singer.range_low_midi + 2.0;
+            let high = (singer.range_high_midi - 1.0).max(break_midi(singer) + 4.0);
             let rate = 9.0; // semitones per second, an unhurried siren
             let seconds = (high - low) / rate;
             // The audible break of a siren: a man's modal-to-falsetto switch
@@ -122,7 +125,11 @@ pub fn task_segments(singer: &DemoSinger, task: Task) -> Vec<Segment> {
                     duration_seconds: seconds,
                     vowel: Vowel::U,
                     level_db: 0.0,
-                    register: if singer.glide_breaks { Register::Falsetto } else { Register::Modal },
+                    register: if singer.glide_breaks {
+                        Register::Falsetto
+                    } else {
+                        Register::Modal
+                    },
                     register_break: down_break,
                 }),
             ]
@@ -162,7 +169,16 @@ pub fn task_segments(singer: &DemoSinger, task: Task) -> Vec<Segment> {
         Task::Song => {
             // An invented eight-note phrase in the middle of the comfort zone.
             let tonic = (singer.comfort_low_midi + singer.comfort_high_midi) / 2.0 - 4.0;
-            let phrase = [(0.0, 0.5), (2.0, 0.5), (4.0, 1.0), (7.0, 0.5), (5.0, 0.5), (4.0, 0.5), (2.0, 0.5), (0.0, 1.2)];
+            let phrase = [
+                (0.0, 0.5),
+                (2.0, 0.5),
+                (4.0, 1.0),
+                (7.0, 0.5),
+                (5.0, 0.5),
+                (4.0, 0.5),
+                (2.0, 0.5),
+                (0.0, 1.2),
+            ];
             phrase
                 .iter()
                 .map(|&(step, seconds)| {
@@ -175,7 +191,11 @@ pub fn task_segments(singer: &DemoSinger, task: Task) -> Vec<Segment> {
 }
 
 /// Renders one task of one singer at the profile's analysis rate.
-pub fn synthesise_task(singer: &DemoSinger, task: Task, seed: u64) -> Result<Synthesis, SynthError> {
+pub fn synthesise_task(
+    singer: &DemoSinger,
+    task: Task,
+    seed: u64,
+) -> Result<Synthesis, SynthError> {
     let config = SynthConfig {
         sample_rate: PROFILE_SAMPLE_RATE,
         seed,
@@ -191,10 +211,18 @@ pub fn audition(singer: &DemoSinger, seed: u64) -> Result<Vec<Recording>, String
         .iter()
         .enumerate()
         .map(|(index, &task)| {
-            let synthesis = synthesise_task(singer, task, seed.wrapping_mul(31).wrapping_add(index as u64))
-                .map_err(|error| format!("{} ({}): {error}", singer.name, task.label()))?;
-            let track = track_samples(&synthesis.samples, synthesis.sample_rate, &TrackConfig::default())
-                .map_err(|error| format!("{} ({}): {error}", singer.name, task.label()))?;
+            let synthesis = synthesise_task(
+                singer,
+                task,
+                seed.wrapping_mul(31).wrapping_add(index as u64),
+            )
+            .map_err(|error| format!("{} ({}): {error}", singer.name, task.label()))?;
+            let track = track_samples(
+                &synthesis.samples,
+                synthesis.sample_rate,
+                &TrackConfig::default(),
+            )
+            .map_err(|error| format!("{} ({}): {error}", singer.name, task.label()))?;
             Ok(Recording {
                 task,
                 file: format!("demo:{}/{}", singer.name, task.label()),

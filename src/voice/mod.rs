@@ -469,8 +469,11 @@ pub fn profile(recordings: &[Recording], config: &ProfileConfig) -> Result<Profi
         .collect();
     let steady_seconds: f64 = steady.iter().map(|(_, s)| s).sum();
     let comfort = if steady_seconds >= 2.0 {
-        let low = weighted_percentile(steady.clone(), 5.0).unwrap_or(range.low_midi);
-        let high = weighted_percentile(steady, 95.0).unwrap_or(range.high_midi);
+        // The scale task walks the whole comfortable range, so its lowest
+        // and highest steady notes bound the zone; the outer 1 % of steady
+        // time is dropped so a stray mistracked note cannot widen it.
+        let low = weighted_percentile(steady.clone(), 1.0).unwrap_or(range.low_midi);
+        let high = weighted_percentile(steady, 99.0).unwrap_or(range.high_midi);
         // The comfort zone lies inside the sustained range; its top stays at
         // least a semitone under the highest held note (common practice).
         let high = high.min(range.high_midi - 1.0).max(range.low_midi);
@@ -486,7 +489,7 @@ pub fn profile(recordings: &[Recording], config: &ProfileConfig) -> Result<Profi
             span: PitchSpan::new(low, high),
             confidence: confidence.min(0.95),
             basis: format!(
-                "the middle 90 % of {steady_seconds:.1} s of steady notes in the scale and song tasks, kept inside the held range"
+                "the middle 98 % of {steady_seconds:.1} s of steady notes in the scale and song tasks, kept inside the held range"
             ),
         }
     } else {
