@@ -523,6 +523,51 @@ fn format_roster_pitch(midi: f64) -> String {
     }
 }
 
+/// The roster row for a measured profile, so measured and typed-in singers
+/// mix in one roster. Passaggi that were not measured are left out (a typed
+/// roster's primo and secondo are known values, not guesses).
+pub fn singer_from_profile(name: &str, profile: &crate::voice::Profile) -> Singer {
+    use crate::voice::{PassaggioKind, PassaggioSource};
+    let measured = |kind: PassaggioKind| {
+        profile
+            .passaggio(kind)
+            .filter(|passaggio| passaggio.source == PassaggioSource::Measured)
+            .map(|passaggio| passaggio.midi)
+    };
+    let primo_midi = measured(PassaggioKind::Primo);
+    let secondo_midi = measured(PassaggioKind::Secondo);
+    // A roster requires primo ≤ secondo; keep them only in that order.
+    let (primo_midi, secondo_midi) = match (primo_midi, secondo_midi) {
+        (Some(primo), Some(secondo)) if primo > secondo => (None, None),
+        pair => pair,
+    };
+    Singer {
+        name: name.to_string(),
+        range_low_midi: profile.range.low_midi,
+        range_high_midi: profile.range.high_midi,
+        comfort_low_midi: profile.comfort.span.low_midi,
+        comfort_high_midi: profile.comfort.span.high_midi,
+        primo_midi,
+        secondo_midi,
+        voice_type: Some(profile.voice_type.label.clone()),
+        section: (!profile.section.is_empty()).then(|| profile.section.clone()),
+        notes: Some(format!(
+            "measured profile: {} ({:.0} %)",
+            profile.voice_type.label,
+            100.0 * profile.voice_type.confidence
+        )),
+    }
+}
+
+/// One singer as a roster CSV data row (no header), in the columns that
+/// [`roster_to_csv`] writes.
+pub fn singer_to_csv_row(singer: &Singer) -> Result<String, csv::Error> {
+    let table = roster_to_csv(&Roster {
+        singers: vec![singer.clone()],
+    })?;
+    Ok(table.lines().skip(1).collect::<Vec<_>>().join("\n") + "\n")
+}
+
 /// The roster as CSV with every column, readable by [`parse_roster_csv`].
 pub fn roster_to_csv(roster: &Roster) -> Result<String, csv::Error> {
     let mut writer = csv::Writer::from_writer(Vec::new());

@@ -69,3 +69,79 @@ fn demo_auditions_recover_range_type_and_passaggi() {
     );
     assert_eq!(breaks_found, breaks, "measured passaggi within ±1 semitone");
 }
+
+mod common;
+
+/// `ambit profile` on one demo singer's audition written as WAV files: the
+/// JSON shape of the CLI contract, and a roster row that reads back.
+#[test]
+fn the_profile_command_works_on_a_demo_singer() {
+    use ambit::demo::synthesise_task;
+    use ambit::synth::write_wav;
+    use ambit::voice::Task;
+
+    let singer = DEMO_CHOIR
+        .iter()
+        .find(|s| s.voice_type.label() == "tenor" && s.glide_breaks)
+        .expect("a tenor in the demo choir");
+    let folder = tempfile::tempdir().expect("a scratch folder");
+    let mut arguments: Vec<String> = vec!["profile".into()];
+    for (index, task) in Task::ALL.into_iter().enumerate() {
+        let synthesis = synthesise_task(singer, task, 77 + index as u64).expect("renders");
+        let path = folder.path().join(format!("{}.wav", task.label()));
+        write_wav(&path, &synthesis).expect("writes");
+        arguments.push(format!("--{}", task.label()));
+        arguments.push(path.display().to_string());
+    }
+    let as_str: Vec<&str> = arguments.iter().map(String::as_str).collect();
+
+    let mut json_arguments = as_str.clone();
+    json_arguments.push("--json");
+    let (ok, stdout, stderr) = common::run_ambit(&json_arguments);
+    assert!(ok, "{stderr}");
+    let profile: serde_json::Value = serde_json::from_str(&stdout).expect("JSON");
+    // The issue 4 contract's keys.
+    for key in [
+        "range",
+        "comfort",
+        "passaggi",
+        "speaking_f0_hz",
+        "voice_type",
+        "section",
+        "reasons",
+        "cautions",
+    ] {
+        assert!(profile.get(key).is_some(), "missing {key}");
+    }
+    for key in ["low_midi", "high_midi", "low", "high"] {
+        assert!(profile["range"].get(key).is_some() && profile["comfort"].get(key).is_some());
+    }
+    assert_eq!(profile["voice_type"]["label"], "tenor");
+    let speaking = profile["speaking_f0_hz"]
+        .as_f64()
+        .expect("speech was given");
+    // Baken (2000): adult men speak at about 85–155 Hz.
+    assert!((85.0..=155.0).contains(&speaking), "{speaking}");
+    for passaggio in profile["passaggi"].as_array().expect("a list") {
+        assert!(matches!(
+            passaggio["kind"].as_str(),
+            Some("primo" | "secondo")
+        ));
+        assert!(matches!(
+            passaggio["source"].as_str(),
+            Some("measured" | "typical")
+        ));
+    }
+
+    let mut row_arguments = as_str.clone();
+    row_arguments.extend(["--roster-row", "Demo Tenor"]);
+    let (ok, row, stderr) = common::run_ambit(&row_arguments);
+    assert!(ok, "{stderr}");
+    let csv = format!(
+        "name,range_low,range_high,comfort_low,comfort_high,primo,secondo,voice_type,section,notes\n{row}"
+    );
+    let roster = ambit::roster::parse_roster_csv(std::path::Path::new("row.csv"), csv.as_bytes())
+        .expect("the row reads back as a roster");
+    assert_eq!(roster.singers[0].name, "Demo Tenor");
+    assert!((roster.singers[0].range_low_midi - singer.range_low_midi).abs() <= 1.0);
+}

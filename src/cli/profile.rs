@@ -26,8 +26,11 @@ pub struct ProfileArgs {
     #[arg(long, value_name = "FILE")]
     pub song: Vec<PathBuf>,
     /// Print the profile as JSON.
-    #[arg(long)]
+    #[arg(long, conflicts_with = "roster_row")]
     pub json: bool,
+    /// Print the profile as a roster CSV row for the singer NAME.
+    #[arg(long, value_name = "NAME")]
+    pub roster_row: Option<String>,
 }
 
 pub fn run(arguments: ProfileArgs) -> anyhow::Result<()> {
@@ -50,6 +53,16 @@ pub fn run(arguments: ProfileArgs) -> anyhow::Result<()> {
     let result = profile(&recordings, &ProfileConfig::default())?;
     if arguments.json {
         println!("{}", serde_json::to_string_pretty(&result)?);
+        return Ok(());
+    }
+    if let Some(name) = &arguments.roster_row {
+        print!(
+            "{}",
+            ambit::roster::singer_to_csv_row(&ambit::roster::singer_from_profile(name, &result))?
+        );
+        for caution in &result.cautions {
+            eprintln!("note: {caution}");
+        }
         return Ok(());
     }
     println!(
