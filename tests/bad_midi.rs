@@ -9,39 +9,16 @@
 //! whose data begins with a C4 of 480 ticks: `00 90 3C 50` then `83 60 80 3C
 //! 40` (9 bytes), so the next event starts at byte 31.
 
-use std::path::{Path, PathBuf};
+mod common;
 
-use ambit::score::{ReadOptions, ScoreError, read_score, read_score_bytes};
+use std::path::Path;
 
-fn corpus(name: &str) -> PathBuf {
-    Path::new(env!("CARGO_MANIFEST_DIR"))
-        .join("tests/data/bad-scores")
-        .join(name)
-}
+use ambit::score::{ReadOptions, ScoreError, read_score_bytes};
 
 /// Reads a corpus file, requires an error, and checks that its message names
 /// the file and contains every `place` fragment.
 fn expect_error(name: &str, places: &[&str]) -> ScoreError {
-    let path = corpus(name);
-    let error = match read_score(&path, &ReadOptions::default()) {
-        Ok(piece) => panic!(
-            "{name}: expected an error, read {} parts",
-            piece.parts.len()
-        ),
-        Err(error) => error,
-    };
-    let message = error.to_string();
-    assert!(
-        message.contains(name),
-        "{name}: message does not name the file: {message}"
-    );
-    for place in places {
-        assert!(
-            message.contains(place),
-            "{name}: expected {place:?} in: {message}"
-        );
-    }
-    error
+    common::bad_score_error(name, places)
 }
 
 #[test]

@@ -19,24 +19,7 @@ fn corpus(name: &str) -> PathBuf {
 /// Reads a corpus file and returns the error, checking that its message
 /// names the file and contains `place`.
 fn refused(name: &str, place: &str) -> ScoreError {
-    let path = corpus(name);
-    let error = match read_score(&path, &ReadOptions::default()) {
-        Ok(piece) => panic!(
-            "{name} was read as a score with {} parts",
-            piece.parts.len()
-        ),
-        Err(error) => error,
-    };
-    let message = error.to_string();
-    assert!(
-        message.contains(name),
-        "{name}: message does not name the file: {message}"
-    );
-    assert!(
-        message.contains(place),
-        "{name}: message does not say {place:?}: {message}"
-    );
-    error
+    common::bad_score_error(name, &[place])
 }
 
 #[test]

@@ -116,3 +116,29 @@ pub fn zip_archive(entries: &[(&str, &[u8])]) -> Vec<u8> {
     }
     writer.finish().expect("zip finish").into_inner()
 }
+
+/// Reads a file of the bad-score corpus (`tests/data/bad-scores/`), requires
+/// an error, and checks that its message names the file and contains every
+/// `place` fragment (a byte offset, a track, a measure…).
+pub fn bad_score_error(name: &str, places: &[&str]) -> ambit::score::ScoreError {
+    let path = project_root().join("tests/data/bad-scores").join(name);
+    let error = match ambit::score::read_score(&path, &ambit::score::ReadOptions::default()) {
+        Ok(piece) => panic!(
+            "{name}: expected an error, read {} parts",
+            piece.parts.len()
+        ),
+        Err(error) => error,
+    };
+    let message = error.to_string();
+    assert!(
+        message.contains(name),
+        "{name}: message does not name the file: {message}"
+    );
+    for place in places {
+        assert!(
+            message.contains(place),
+            "{name}: expected {place:?} in: {message}"
+        );
+    }
+    error
+}
