@@ -3,6 +3,7 @@
 //!
 //! Run: `cargo bench --bench placement`. Figures in docs/PERFORMANCE.md.
 
+use ambit::synth::random::SplitMix64;
 use std::hint::black_box;
 
 use ambit::placement::{
@@ -10,16 +11,12 @@ use ambit::placement::{
 };
 use criterion::{Criterion, criterion_group, criterion_main};
 
-/// SplitMix64 (Steele, Lea & Flood 2014): seeded, so every run times the same problems.
-struct SplitMix(u64);
+/// The engine's SplitMix64, seeded, so every run times the same problems.
+struct SplitMix(SplitMix64);
 
 impl SplitMix {
     fn next(&mut self) -> u64 {
-        self.0 = self.0.wrapping_add(0x9E37_79B9_7F4A_7C15);
-        let mut z = self.0;
-        z = (z ^ (z >> 30)).wrapping_mul(0xBF58_476D_1CE4_E5B9);
-        z = (z ^ (z >> 27)).wrapping_mul(0x94D0_49BB_1331_11EB);
-        z ^ (z >> 31)
+        self.0.next_u64()
     }
     fn unit(&mut self) -> f64 {
         (self.next() >> 11) as f64 / (1u64 << 53) as f64
@@ -30,7 +27,7 @@ impl SplitMix {
 /// fits fall off with distance from it, sections two or more steps away are
 /// not allowed; sizes are 60–140 % of an even share; 1 % of singers locked.
 fn choir(singers: usize, sections: usize, seed: u64) -> PlacementProblem {
-    let mut random = SplitMix(seed);
+    let mut random = SplitMix(SplitMix64::new(seed));
     let mut fit = Vec::with_capacity(singers);
     let mut locks = Vec::new();
     for singer in 0..singers {

@@ -17,17 +17,14 @@
 mod common;
 
 use ambit::placement::{PlacementConfig, PlacementError, PlacementProblem, SizeLimit, place};
+use ambit::synth::random::SplitMix64;
 
 /// SplitMix64 (Steele, Lea & Flood 2014): a tiny seeded generator.
-struct SplitMix(u64);
+struct SplitMix(SplitMix64);
 
 impl SplitMix {
     fn next(&mut self) -> u64 {
-        self.0 = self.0.wrapping_add(0x9E37_79B9_7F4A_7C15);
-        let mut z = self.0;
-        z = (z ^ (z >> 30)).wrapping_mul(0xBF58_476D_1CE4_E5B9);
-        z = (z ^ (z >> 27)).wrapping_mul(0x94D0_49BB_1331_11EB);
-        z ^ (z >> 31)
+        self.0.next_u64()
     }
     fn below(&mut self, bound: usize) -> usize {
         (self.next() % bound as u64) as usize
@@ -122,7 +119,7 @@ fn placement_optimum_equals_scipy() {
     let Some(python) = common::reference_python("placement_optimum_equals_scipy") else {
         return;
     };
-    let mut random = SplitMix(0x00A1_B175);
+    let mut random = SplitMix(SplitMix64::new(0x00A1_B175));
     let instances: Vec<PlacementProblem> =
         (0..200).map(|index| instance(&mut random, index)).collect();
     let file = tempfile::NamedTempFile::new().expect("a temporary file");

@@ -3,6 +3,7 @@
 //! tests/placement_scipy.rs.
 
 use super::*;
+use crate::synth::random::SplitMix64;
 use proptest::prelude::*;
 
 fn names(prefix: &str, count: usize) -> Vec<String> {
@@ -41,15 +42,11 @@ fn config() -> PlacementConfig {
 
 /// Deterministic generator for the brute-force instances (SplitMix64,
 /// Steele, Lea & Flood 2014).
-struct SplitMix(u64);
+struct SplitMix(SplitMix64);
 
 impl SplitMix {
     fn next(&mut self) -> u64 {
-        self.0 = self.0.wrapping_add(0x9E37_79B9_7F4A_7C15);
-        let mut z = self.0;
-        z = (z ^ (z >> 30)).wrapping_mul(0xBF58_476D_1CE4_E5B9);
-        z = (z ^ (z >> 27)).wrapping_mul(0x94D0_49BB_1331_11EB);
-        z ^ (z >> 31)
+        self.0.next_u64()
     }
     fn below(&mut self, bound: usize) -> usize {
         (self.next() % bound as u64) as usize
@@ -398,7 +395,7 @@ fn malformed_problems_are_errors_not_panics() {
 #[test]
 fn brute_force_agrees_on_tiny_instances() {
     // Exhaustive enumeration of all sections^singers assignments (≤ 4^7).
-    let mut random = SplitMix(20_260_512);
+    let mut random = SplitMix(SplitMix64::new(20_260_512));
     let (mut feasible, mut infeasible) = (0, 0);
     for _ in 0..600 {
         let problem = random_problem(&mut random, 7, 4);

@@ -27,7 +27,7 @@ mod contour;
 mod degrade;
 pub mod formants;
 pub mod glottal;
-mod random;
+pub mod random;
 mod render;
 #[cfg(test)]
 mod tests;

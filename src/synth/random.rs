@@ -1,4 +1,5 @@
-//! A small deterministic random source for the synthesiser: SplitMix64
+//! A small deterministic random source for the synthesiser (and for seeded
+//! test and benchmark instances elsewhere): SplitMix64
 //! (Steele, Lea & Flood, "Fast splittable pseudorandom number generators",
 //! OOPSLA 2014) with Box–Muller normal deviates. The same seed always gives
 //! the same recording on every platform, which the ground truth relies on.
