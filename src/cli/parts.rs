@@ -230,21 +230,15 @@ fn print_table(report: &ScoreJson, parts: &[PartTessitura], fifths: i32) {
             push(line, format!("  {}", line.name));
         }
     }
-    let widths: Vec<usize> = (0..rows[0].len())
-        .map(|column| {
-            rows.iter()
-                .map(|row| row[column].chars().count())
-                .max()
-                .unwrap_or(0)
+    // The table is indented under its title: the indent goes into the first column.
+    let rows: Vec<Vec<String>> = rows
+        .into_iter()
+        .map(|row| {
+            let mut cells = row.to_vec();
+            cells[0] = format!("  {}", cells[0]);
+            cells
         })
         .collect();
-    for row in &rows {
-        let cells: Vec<String> = row
-            .iter()
-            .zip(&widths)
-            .map(|(cell, width)| format!("{cell:<width$}"))
-            .collect();
-        println!("  {}", cells.join("  ").trim_end());
-    }
+    super::fit::print_rows(&rows);
     println!();
 }
