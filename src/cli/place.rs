@@ -3,7 +3,6 @@
 //! placement of a roster into a layout's sections over a programme.
 
 use std::fmt::Write as _;
-use std::io::Write as _;
 use std::path::PathBuf;
 
 use anyhow::{Context, bail};
@@ -11,9 +10,14 @@ use clap::Args;
 use serde::Serialize;
 
 use ambit::cautions::cautions;
-use ambit::fit::{SectionFitConfig, section_fit_matrix};
-use ambit::placement::{Placement, PlacementConfig, PlacementError, RiskReason, SizeLimit, place};
-use ambit::plan::{PlanConstraints, placement_problem};
+use ambit::fit::SectionFitMatrix;
+use ambit::placement::{Placement, PlacementError, RiskReason, SizeLimit};
+use ambit::plan::{
+    PlanConstraints, ProgrammeConfig, ProgrammeError, ProgrammePlan, place_programme, plan_programme,
+};
+use ambit::report::{ReportDocument, write_report};
+
+use super::write_stdout;
 use ambit::roster::read_roster;
 use ambit::score::{ReadOptions, read_score};
 use ambit::sections::Layout;
@@ -53,6 +57,15 @@ pub struct PlaceArgs {
     /// Print JSON instead of a table.
     #[arg(long)]
     pub json: bool,
+    /// Also write the plan as a self-contained HTML report (charts, tables, cautions) to this file.
+    #[arg(long, value_name = "FILE.html")]
+    pub report: Option<PathBuf>,
+}
+
+/// What was solved: the whole plan (for a report) or just the placement.
+enum Outcome {
+    Plan(Box<ProgrammePlan>),
+    Placed(SectionFitMatrix, Placement),
 }
 
 #[derive(Serialize)]
@@ -139,13 +152,6 @@ fn pairs(option: &str, texts: &[String]) -> anyhow::Result<Vec<(String, String)>
         .collect()
 }
 
-fn reason_text(reason: &RiskReason) -> String {
-    match reason {
-        RiskReason::LowFit { threshold } => format!("fit below {threshold:.0}"),
-        RiskReason::BeyondRange => "sings beyond their range".into(),
-    }
-}
-
 pub fn run(arguments: PlaceArgs) -> anyhow::Result<()> {
     let constraints = PlanConstraints {
         sizes: arguments
@@ -192,11 +198,18 @@ pub fn run(arguments: PlaceArgs) -> anyhow::Result<()> {
         .iter()
         .map(|path| read_score(path, &options))
         .collect::<Result<Vec<_>, _>>()?;
-    let matrix = section_fit_matrix(&roster, &programme, &layout, &SectionFitConfig::default())?;
-    let problem = placement_problem(&matrix, &constraints)?;
-    let placement = match place(&problem, &PlacementConfig::default()) {
-        Ok(placement) => placement,
-        Err(PlacementError::Infeasible { reasons }) => {
+    let config = ProgrammeConfig::default();
+    // A report needs the whole plan (tessituras, key sweeps); a table or
+    // JSON needs only the matrix and the placement.
+    let outcome = match &arguments.report {
+        Some(_) => plan_programme(&roster, &programme, &layout, &constraints, &config)
+            .map(|plan| Outcome::Plan(Box::new(plan))),
+        None => place_programme(&roster, &programme, &layout, &constraints, &config)
+            .map(|(matrix, placement)| Outcome::Placed(matrix, placement)),
+    };
+    let outcome = match outcome {
+        Ok(outcome) => outcome,
+        Err(ProgrammeError::Placement(PlacementError::Infeasible { reasons })) => {
             let lines: Vec<String> = reasons
                 .iter()
                 .map(|reason| format!("  - {}", reason.message))
@@ -205,6 +218,30 @@ pub fn run(arguments: PlaceArgs) -> anyhow::Result<()> {
         }
         Err(error) => return Err(error.into()),
     };
+    let (matrix, placement) = match &outcome {
+        Outcome::Plan(plan) => (&plan.matrix, &plan.placement),
+        Outcome::Placed(matrix, placement) => (matrix, placement),
+    };
+    if let (Some(path), Outcome::Plan(plan)) = (&arguments.report, &outcome) {
+        let names: Vec<String> = score_paths
+            .iter()
+            .map(|path| {
+                path.file_name()
+                    .map_or_else(|| path.display().to_string(), |name| name.to_string_lossy().into_owned())
+            })
+            .collect();
+        let title = format!("Programme plan: {} singers, layout {}", roster.singers.len(), layout.name);
+        let source = format!("Roster and {} piece(s): {}.", names.len(), names.join(", "));
+        write_report(
+            path,
+            &ReportDocument {
+                title: &title,
+                source: &source,
+                plan,
+            },
+        )?;
+        eprintln!("wrote {}", path.display());
+    }
     let json = {
         let json = PlaceJson {
             layout: matrix.sections.clone(),
@@ -250,7 +287,7 @@ pub fn run(arguments: PlaceArgs) -> anyhow::Result<()> {
                     singer: risk.singer.clone(),
                     section: risk.section.clone(),
                     fit: risk.fit,
-                    reasons: risk.reasons.iter().map(reason_text).collect(),
+                    reasons: risk.reasons.iter().map(RiskReason::describe).collect(),
                 })
                 .collect(),
             cautions: cautions(),
@@ -271,20 +308,7 @@ pub fn run(arguments: PlaceArgs) -> anyhow::Result<()> {
     if arguments.json {
         write_stdout(&format!("{}\n", serde_json::to_string_pretty(&json)?))
     } else {
-        write_stdout(&table(&placement)?)
-    }
-}
-
-/// Writes the whole output at once; a reader that stops early (`| head`)
-/// is not an error.
-fn write_stdout(text: &str) -> anyhow::Result<()> {
-    let mut stdout = std::io::stdout().lock();
-    match stdout
-        .write_all(text.as_bytes())
-        .and_then(|()| stdout.flush())
-    {
-        Err(error) if error.kind() == std::io::ErrorKind::BrokenPipe => Ok(()),
-        result => Ok(result?),
+        write_stdout(&table(placement)?)
     }
 }
 
@@ -329,7 +353,7 @@ fn table(placement: &Placement) -> Result<String, std::fmt::Error> {
         writeln!(out)?;
         writeln!(out, "at risk:")?;
         for risk in &placement.at_risk {
-            let reasons: Vec<String> = risk.reasons.iter().map(reason_text).collect();
+            let reasons: Vec<String> = risk.reasons.iter().map(RiskReason::describe).collect();
             writeln!(
                 out,
                 "  {} in {} (fit {:.1}): {}",
