@@ -168,6 +168,8 @@ pub struct SectionLines {
 #[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
 pub struct PiecePlan {
     pub title: String,
+    /// The first key signature's sharps (+) or flats (−), when the score has one.
+    pub key_fifths: Option<i32>,
     /// Every part with sounding notes (accompaniment included, marked by its kind).
     pub parts: Vec<crate::tessitura::PartTessitura>,
     /// One entry per layout section, in layout order.
@@ -239,11 +241,7 @@ pub fn plan_programme(
         singer.section = Some(assignment.section.clone());
     }
     let mut pieces = Vec::with_capacity(programme.len());
-    for ((piece, mapping), summary) in programme
-        .iter()
-        .zip(&matrix.mappings)
-        .zip(&matrix.pieces)
-    {
+    for ((piece, mapping), summary) in programme.iter().zip(&matrix.mappings).zip(&matrix.pieces) {
         let sections = mapping
             .sections
             .iter()
@@ -271,6 +269,7 @@ pub fn plan_programme(
         keys_config.section_fit = config.section_fit.clone();
         pieces.push(PiecePlan {
             title: mapping.piece.clone(),
+            key_fifths: piece.key.map(|key| key.fifths),
             parts: analyse_piece(piece, &config.tessitura),
             sections,
             mapping: summary.clone(),

@@ -54,11 +54,7 @@ pub fn run(arguments: DemoArgs) -> anyhow::Result<()> {
         auditions.display(),
         ambit::voice::PROFILE_SAMPLE_RATE
     )?;
-    writeln!(
-        text,
-        "done in {:.1} s",
-        started.elapsed().as_secs_f64()
-    )?;
+    writeln!(text, "done in {:.1} s", started.elapsed().as_secs_f64())?;
     write_stdout(&text)
 }
 
@@ -74,7 +70,11 @@ fn summary(result: &DemoResult) -> Result<String, std::fmt::Error> {
         plan.layout
     )?;
     writeln!(out)?;
-    writeln!(out, "{:<7}  {:>5}  {:>8}  singers", "section", "count", "mean fit")?;
+    writeln!(
+        out,
+        "{:<7}  {:>5}  {:>8}  singers",
+        "section", "count", "mean fit"
+    )?;
     for section in &plan.placement.sections {
         let names: Vec<&str> = plan
             .placement
@@ -111,7 +111,10 @@ fn summary(result: &DemoResult) -> Result<String, std::fmt::Error> {
         }
     }
     writeln!(out)?;
-    writeln!(out, "keys (weakest section's mean fit as written → advised):")?;
+    writeln!(
+        out,
+        "keys (weakest section's mean fit as written → advised):"
+    )?;
     for piece in &plan.pieces {
         let advice = &piece.keys;
         let at = |semitones: i32| {

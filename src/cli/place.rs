@@ -13,7 +13,8 @@ use ambit::cautions::cautions;
 use ambit::fit::SectionFitMatrix;
 use ambit::placement::{Placement, PlacementError, RiskReason, SizeLimit};
 use ambit::plan::{
-    PlanConstraints, ProgrammeConfig, ProgrammeError, ProgrammePlan, place_programme, plan_programme,
+    PlanConstraints, ProgrammeConfig, ProgrammeError, ProgrammePlan, place_programme,
+    plan_programme,
 };
 use ambit::report::{ReportDocument, write_report};
 
@@ -226,11 +227,17 @@ pub fn run(arguments: PlaceArgs) -> anyhow::Result<()> {
         let names: Vec<String> = score_paths
             .iter()
             .map(|path| {
-                path.file_name()
-                    .map_or_else(|| path.display().to_string(), |name| name.to_string_lossy().into_owned())
+                path.file_name().map_or_else(
+                    || path.display().to_string(),
+                    |name| name.to_string_lossy().into_owned(),
+                )
             })
             .collect();
-        let title = format!("Programme plan: {} singers, layout {}", roster.singers.len(), layout.name);
+        let title = format!(
+            "Programme plan: {} singers, layout {}",
+            roster.singers.len(),
+            layout.name
+        );
         let source = format!("Roster and {} piece(s): {}.", names.len(), names.join(", "));
         write_report(
             path,

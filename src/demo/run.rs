@@ -22,7 +22,9 @@ use thiserror::Error;
 
 use super::{DEMO_CHOIR, DemoSinger, audition_to};
 use crate::placement::SizeLimit;
-use crate::plan::{PlanConstraints, ProgrammeConfig, ProgrammeError, ProgrammePlan, plan_programme};
+use crate::plan::{
+    PlanConstraints, ProgrammeConfig, ProgrammeError, ProgrammePlan, plan_programme,
+};
 use crate::roster::{Roster, Singer, roster_to_csv, singer_from_profile};
 use crate::score::{Piece, ReadOptions, ScoreError, read_score_bytes};
 use crate::sections::{Layout, LayoutError};

@@ -69,11 +69,16 @@ pub fn write_atomically(path: &Path, bytes: &[u8]) -> Result<(), ReportError> {
         Some(parent) if !parent.as_os_str().is_empty() => parent,
         _ => Path::new("."),
     };
-    let mut file = tempfile::Builder::new()
-        .prefix(".ambit-")
-        .suffix(".tmp")
-        .tempfile_in(folder)
-        .map_err(error)?;
+    let mut builder = tempfile::Builder::new();
+    builder.prefix(".ambit-").suffix(".tmp");
+    // A report or roster is an ordinary document: readable by others, as a
+    // file the user saved would be (temporary files default to owner-only).
+    #[cfg(unix)]
+    {
+        use std::os::unix::fs::PermissionsExt as _;
+        builder.permissions(std::fs::Permissions::from_mode(0o644));
+    }
+    let mut file = builder.tempfile_in(folder).map_err(error)?;
     file.write_all(bytes).map_err(error)?;
     file.as_file().sync_all().map_err(error)?;
     file.persist(path).map_err(|failure| error(failure.error))?;

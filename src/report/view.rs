@@ -9,7 +9,7 @@ use askama::Template;
 
 use super::ReportDocument;
 use super::palette::{Rgb, fit_colour, text_colour_on, viridis};
-use crate::pitch::{midi_name, nearest_name};
+use crate::pitch::{midi_name, midi_name_in_key, nearest_name};
 use crate::placement::RiskReason;
 use crate::plan::{LineDistribution, ProgrammePlan};
 use crate::roster::Singer;
@@ -25,6 +25,9 @@ const FIGURE_WIDTH: f64 = 70.0;
 const HISTOGRAM_ROW: f64 = 36.0;
 const SINGER_ROW: f64 = 24.0;
 const KEYBOARD_HEIGHT: f64 = 34.0;
+/// A section mean fit below this is called weak in the key advice: the
+/// placement's default at-risk threshold (`PlacementConfig::risk_threshold`).
+const WEAK_FIT: f64 = 50.0;
 
 #[derive(Template)]
 #[template(path = "report.html")]
@@ -314,10 +317,9 @@ impl Axis {
         if !low.is_finite() || !high.is_finite() {
             (low, high) = (48.0, 72.0);
         }
-        // A semitone of margin, then out to the nearest C and B so the axis
-        // starts and ends on whole octaves' names.
-        let low_midi = ((low.floor() as i32 - 1).clamp(0, 127) / 12) * 12;
-        let high_midi = ((high.ceil() as i32 + 1).clamp(0, 127) / 12) * 12 + 11;
+        // Two semitones of margin each side.
+        let low_midi = (low.floor() as i32 - 2).clamp(0, 127);
+        let high_midi = (high.ceil() as i32 + 2).clamp(low_midi, 127);
         let keys = f64::from(high_midi - low_midi + 1);
         Axis {
             low_midi,
@@ -345,14 +347,17 @@ impl Axis {
         let mut black = Vec::new();
         let mut names = Vec::new();
         for midi in self.low_midi..=self.high_midi {
+            // White keys fill their semitone; black keys are narrower and
+            // shorter, as on a keyboard.
+            let (inset, height) = if is_black_key(midi) {
+                (self.step * 0.12, KEYBOARD_HEIGHT * 0.45)
+            } else {
+                (0.0, KEYBOARD_HEIGHT * 0.65)
+            };
             let key = Key {
-                x: px(self.left(f64::from(midi))),
-                width: px(self.step),
-                height: px(if is_black_key(midi) {
-                    KEYBOARD_HEIGHT * 0.55
-                } else {
-                    KEYBOARD_HEIGHT * 0.7
-                }),
+                x: px(self.left(f64::from(midi)) + inset),
+                width: px(self.step - 2.0 * inset),
+                height: px(height),
             };
             if is_black_key(midi) {
                 black.push(key);
@@ -386,12 +391,7 @@ impl Axis {
     }
 }
 
-fn histogram_row(
-    axis: &Axis,
-    y: f64,
-    piece: &str,
-    line: &LineDistribution,
-) -> HistogramRow {
+fn histogram_row(axis: &Axis, y: f64, piece: &str, line: &LineDistribution) -> HistogramRow {
     let tallest = line
         .histogram_seconds
         .values()
@@ -433,18 +433,21 @@ fn singer_bar(axis: &Axis, y: f64, singer: &Singer, fit: Option<f64>) -> SingerB
     let high = axis.clamp(singer.range_high_midi);
     let comfort_low = axis.clamp(singer.comfort_low_midi);
     let comfort_high = axis.clamp(singer.comfort_high_midi);
-    let passaggi = [("primo", singer.primo_midi), ("secondo", singer.secondo_midi)]
-        .into_iter()
-        .filter_map(|(kind, midi)| {
-            let midi = midi?;
-            Some(Mark {
-                x: px(axis.centre(axis.clamp(midi))),
-                y1: px(line_y - 9.0),
-                y2: px(line_y + 9.0),
-                tip: format!("{kind} passaggio {}", nearest_name(midi)),
-            })
+    let passaggi = [
+        ("primo", singer.primo_midi),
+        ("secondo", singer.secondo_midi),
+    ]
+    .into_iter()
+    .filter_map(|(kind, midi)| {
+        let midi = midi?;
+        Some(Mark {
+            x: px(axis.centre(axis.clamp(midi))),
+            y1: px(line_y - 9.0),
+            y2: px(line_y + 9.0),
+            tip: format!("{kind} passaggio {}", nearest_name(midi)),
         })
-        .collect();
+    })
+    .collect();
     let (fit_label, fill) = match fit {
         Some(fit) => (fit_text(fit), cell(fit_colour(fit))),
         None => ("—".to_string(), neutral_cell()),
@@ -673,7 +676,16 @@ fn placement_rows(plan: &ProgrammePlan) -> Vec<PlacementRow> {
         .collect()
 }
 
-fn spots(part: &PartTessitura, kind: HotSpotKind) -> String {
+/// Note names spelled for the piece's key (flats in flat keys).
+fn name_in_key(midi: f64, fifths: Option<i32>) -> String {
+    midi_name_in_key(midi.round() as i32, fifths.unwrap_or(0))
+}
+
+fn span_in_key(low: f64, high: f64, fifths: Option<i32>) -> String {
+    format!("{}–{}", name_in_key(low, fifths), name_in_key(high, fifths))
+}
+
+fn spots(part: &PartTessitura, kind: HotSpotKind, fifths: Option<i32>) -> String {
     part.hot_spots
         .iter()
         .filter(|spot| spot.kind == kind)
@@ -681,30 +693,34 @@ fn spots(part: &PartTessitura, kind: HotSpotKind) -> String {
             format!(
                 "bars {} (mean {})",
                 spot.bars,
-                nearest_name(spot.mean_midi)
+                name_in_key(spot.mean_midi, fifths)
             )
         })
         .collect::<Vec<_>>()
         .join("; ")
 }
 
-fn part_row(part: &PartTessitura, divisi: bool) -> PartRow {
+fn part_row(part: &PartTessitura, divisi: bool, fifths: Option<i32>) -> PartRow {
     let spread = &part.over_seconds;
     PartRow {
         name: part.name.clone(),
-        range: span(part.lowest_midi, part.highest_midi),
+        range: span_in_key(part.lowest_midi, part.highest_midi, fifths),
         tessitura: format!(
             "{} ± {:.1} st",
-            nearest_name(spread.mean_midi),
+            name_in_key(spread.mean_midi, fifths),
             spread.sd_semitones
         ),
-        middle: span(spread.percentiles_midi[1], spread.percentiles_midi[3]),
+        middle: span_in_key(
+            spread.percentiles_midi[1],
+            spread.percentiles_midi[3],
+            fifths,
+        ),
         sung_seconds: format!("{:.0}", part.sung_seconds),
-        high_spots: spots(part, HotSpotKind::High),
-        low_spots: spots(part, HotSpotKind::Low),
+        high_spots: spots(part, HotSpotKind::High, fifths),
+        low_spots: spots(part, HotSpotKind::Low, fifths),
         longest: format!(
             "{} for {:.1} s (bars {})",
-            nearest_name(part.longest_note.midi),
+            name_in_key(part.longest_note.midi, fifths),
             part.longest_note.seconds,
             part.longest_note.bars
         ),
@@ -718,9 +734,9 @@ fn pieces(plan: &ProgrammePlan) -> Vec<PieceView> {
         .map(|piece| {
             let mut parts = Vec::new();
             for part in piece.parts.iter().filter(|p| p.kind == PartKind::Voice) {
-                parts.push(part_row(part, false));
+                parts.push(part_row(part, false, piece.key_fifths));
                 for line in &part.divisi {
-                    parts.push(part_row(line, true));
+                    parts.push(part_row(line, true, piece.key_fifths));
                 }
             }
             // Which sections sing each line, in layout order.
@@ -802,6 +818,13 @@ fn key_advice(plan: &ProgrammePlan) -> (Vec<KeyAdvice>, Vec<String>) {
                 ),
                 _ => "No key advice: no placed section sings this piece.".to_string(),
             };
+            let text = match best {
+                Some(best) if best.worst_mean_fit < WEAK_FIT => format!(
+                    "{text} Even then {} stays below {WEAK_FIT:.0}: no key fixes this; the line asks more than that section can give (consider re-voicing it or giving it to fewer, chosen singers).",
+                    best.worst_section
+                ),
+                _ => text,
+            };
             let cells = shifts
                 .iter()
                 .map(|shift| {
@@ -861,11 +884,14 @@ fn singer_rows(plan: &ProgrammePlan) -> Vec<SingerRow> {
         .singers
         .iter()
         .map(|singer| {
-            let passaggi = [("primo", singer.primo_midi), ("secondo", singer.secondo_midi)]
-                .into_iter()
-                .filter_map(|(kind, midi)| midi.map(|midi| format!("{kind} {}", nearest_name(midi))))
-                .collect::<Vec<_>>()
-                .join(", ");
+            let passaggi = [
+                ("primo", singer.primo_midi),
+                ("secondo", singer.secondo_midi),
+            ]
+            .into_iter()
+            .filter_map(|(kind, midi)| midi.map(|midi| format!("{kind} {}", nearest_name(midi))))
+            .collect::<Vec<_>>()
+            .join(", ");
             SingerRow {
                 name: singer.name.clone(),
                 section: singer.section.clone().unwrap_or_default(),
