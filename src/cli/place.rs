@@ -66,7 +66,7 @@ pub struct PlaceArgs {
 /// What was solved: the whole plan (for a report) or just the placement.
 enum Outcome {
     Plan(Box<ProgrammePlan>),
-    Placed(SectionFitMatrix, Placement),
+    Placed(Box<(SectionFitMatrix, Placement)>),
 }
 
 #[derive(Serialize)]
@@ -206,7 +206,7 @@ pub fn run(arguments: PlaceArgs) -> anyhow::Result<()> {
         Some(_) => plan_programme(&roster, &programme, &layout, &constraints, &config)
             .map(|plan| Outcome::Plan(Box::new(plan))),
         None => place_programme(&roster, &programme, &layout, &constraints, &config)
-            .map(|(matrix, placement)| Outcome::Placed(matrix, placement)),
+            .map(|placed| Outcome::Placed(Box::new(placed))),
     };
     let outcome = match outcome {
         Ok(outcome) => outcome,
@@ -221,7 +221,7 @@ pub fn run(arguments: PlaceArgs) -> anyhow::Result<()> {
     };
     let (matrix, placement) = match &outcome {
         Outcome::Plan(plan) => (&plan.matrix, &plan.placement),
-        Outcome::Placed(matrix, placement) => (matrix, placement),
+        Outcome::Placed(placed) => (&placed.0, &placed.1),
     };
     if let (Some(path), Outcome::Plan(plan)) = (&arguments.report, &outcome) {
         let names: Vec<String> = score_paths
