@@ -24,6 +24,13 @@ fn ok(arguments: &[&str]) -> String {
     stdout
 }
 
+/// `ambit library --library FOLDER …`, which must succeed.
+fn in_library(folder: &str, arguments: &[&str]) -> String {
+    let mut all = vec!["library", "--library", folder];
+    all.extend_from_slice(arguments);
+    ok(&all)
+}
+
 fn files_under(dir: &Path) -> Vec<PathBuf> {
     let mut files = Vec::new();
     if let Ok(entries) = std::fs::read_dir(dir) {
@@ -60,29 +67,19 @@ fn a_season_in_the_library_from_init_to_restore() {
     let lib = library.to_str().unwrap();
 
     // 1. Create an empty library.
-    ok(&["library", "--library", lib, "init"]);
+    in_library(lib, &["init"]);
     assert!(library.join("library.sqlite").is_file());
 
     // 2. Import the demo roster (typed-in figures for all 24 singers).
     let roster_file = dir.path().join("demo-roster.csv");
     std::fs::write(&roster_file, roster_to_csv(&demo_roster()).unwrap()).unwrap();
-    let preview = ok(&[
-        "library",
-        "--library",
+    let preview = in_library(
         lib,
-        "import-roster",
-        roster_file.to_str().unwrap(),
-        "--dry-run",
-    ]);
+        &["import-roster", roster_file.to_str().unwrap(), "--dry-run"],
+    );
     assert!(preview.contains(DEMO_CHOIR[0].name), "{preview}");
-    ok(&[
-        "library",
-        "--library",
-        lib,
-        "import-roster",
-        roster_file.to_str().unwrap(),
-    ]);
-    let singers = ok(&["library", "--library", lib, "singers"]);
+    in_library(lib, &["import-roster", roster_file.to_str().unwrap()]);
+    let singers = in_library(lib, &["singers"]);
     for singer in DEMO_CHOIR {
         assert!(
             singers.contains(singer.name),
@@ -123,32 +120,25 @@ fn a_season_in_the_library_from_init_to_restore() {
             assert_eq!(stem, hash, "{}", file.display());
         }
     }
-    let history = ok(&["library", "--library", lib, "history", DEMO_CHOIR[7].name]);
+    let history = in_library(lib, &["history", DEMO_CHOIR[7].name]);
     assert!(history.contains("2026-09-05"), "{history}");
 
     // 4. Add the sample scores as one programme, mapped to the layout.
     let scores = write_sample_scores(&dir.path().join("scores")).unwrap();
     for score in &scores {
-        ok(&[
-            "library",
-            "--library",
+        in_library(
             lib,
-            "add-piece",
-            score.to_str().unwrap(),
-            "--programme",
-            DEMO_PROGRAMME,
-            "--layout",
-            DEMO_LAYOUT,
-        ]);
+            &[
+                "add-piece",
+                score.to_str().unwrap(),
+                "--programme",
+                DEMO_PROGRAMME,
+                "--layout",
+                DEMO_LAYOUT,
+            ],
+        );
     }
-    let pieces = ok(&[
-        "library",
-        "--library",
-        lib,
-        "pieces",
-        "--programme",
-        DEMO_PROGRAMME,
-    ]);
+    let pieces = in_library(lib, &["pieces", "--programme", DEMO_PROGRAMME]);
     assert_eq!(
         pieces
             .lines()
@@ -191,18 +181,12 @@ fn a_season_in_the_library_from_init_to_restore() {
         assert!((2..=4).contains(&count), "{section}");
     }
     assert!(!placed["cautions"].as_array().unwrap().is_empty());
-    let scenarios = ok(&["library", "--library", lib, "scenarios"]);
+    let scenarios = in_library(lib, &["scenarios"]);
     assert!(scenarios.contains("first rehearsal"), "{scenarios}");
 
     // 6. Back up.
     let backup = dir.path().join("season.zip");
-    ok(&[
-        "library",
-        "--library",
-        lib,
-        "backup",
-        backup.to_str().unwrap(),
-    ]);
+    in_library(lib, &["backup", backup.to_str().unwrap()]);
     assert!(backup.is_file());
 
     // 7. Delete one auditioned singer: their recordings leave the disk.
@@ -215,32 +199,24 @@ fn a_season_in_the_library_from_init_to_restore() {
         })
         .collect();
     assert!(gone_stored.iter().all(|file| file.is_file()));
-    ok(&["library", "--library", lib, "delete-singer", gone, "--yes"]);
+    in_library(lib, &["delete-singer", gone, "--yes"]);
     assert!(gone_stored.iter().all(|file| !file.exists()));
     assert_eq!(
         files_under(&library.join("recordings")).len(),
         (DEMO_CHOIR.len() - 1) * 5
     );
-    let singers = ok(&["library", "--library", lib, "singers"]);
+    let singers = in_library(lib, &["singers"]);
     assert!(!singers.contains(gone), "{singers}");
     assert!(integrity_ok(&library));
 
     // 8. Restore the backup into a new folder: the singer and the files are back.
     let restored = dir.path().join("restored");
-    ok(&[
-        "library",
-        "--library",
+    in_library(
         restored.to_str().unwrap(),
-        "restore",
-        backup.to_str().unwrap(),
-    ]);
+        &["restore", backup.to_str().unwrap()],
+    );
     assert!(integrity_ok(&restored));
-    let singers = ok(&[
-        "library",
-        "--library",
-        restored.to_str().unwrap(),
-        "singers",
-    ]);
+    let singers = in_library(restored.to_str().unwrap(), &["singers"]);
     assert!(singers.contains(gone), "{singers}");
     for (file, original) in gone_stored.iter().zip(gone_files) {
         let back = restored.join("recordings").join(file.file_name().unwrap());
@@ -251,12 +227,7 @@ fn a_season_in_the_library_from_init_to_restore() {
             back.display()
         );
     }
-    let scenarios = ok(&[
-        "library",
-        "--library",
-        restored.to_str().unwrap(),
-        "scenarios",
-    ]);
+    let scenarios = in_library(restored.to_str().unwrap(), &["scenarios"]);
     assert!(scenarios.contains("first rehearsal"), "{scenarios}");
 }
 
@@ -271,21 +242,15 @@ fn demo_init_fills_only_an_empty_library() {
         "name,range_low,range_high,comfort_low,comfort_high\nNell Ashby,A3,E5,C4,C5\n",
     )
     .unwrap();
-    ok(&["library", "--library", lib, "init"]);
-    ok(&[
-        "library",
-        "--library",
-        lib,
-        "import-roster",
-        roster_file.to_str().unwrap(),
-    ]);
+    in_library(lib, &["init"]);
+    in_library(lib, &["import-roster", roster_file.to_str().unwrap()]);
     let (success, _, stderr) = run_ambit(&["library", "--library", lib, "init", "--demo"]);
     assert!(!success);
     assert!(stderr.contains("only an empty library"), "{stderr}");
     assert!(stderr.contains(lib), "{stderr}");
     assert_eq!(files_under(&library.join("recordings")).len(), 0);
     // The singer typed in before is still the only one.
-    let singers = ok(&["library", "--library", lib, "singers"]);
+    let singers = in_library(lib, &["singers"]);
     assert!(singers.contains("Nell Ashby"));
     assert!(!singers.contains(DEMO_CHOIR[0].name));
 }
@@ -295,11 +260,11 @@ fn demo_init_stores_the_whole_choir_and_programme() {
     let dir = tempfile::tempdir().unwrap();
     let library = dir.path().join("library");
     let lib = library.to_str().unwrap();
-    let said = ok(&["library", "--library", lib, "init", "--demo"]);
+    let said = in_library(lib, &["init", "--demo"]);
     // The cautions go with every stored voice classification.
     assert!(said.contains("not a medical"), "{said}");
     let info: serde_json::Value =
-        serde_json::from_str(&ok(&["library", "--library", lib, "info", "--json"])).unwrap();
+        serde_json::from_str(&in_library(lib, &["info", "--json"])).unwrap();
     assert_eq!(info["singers"], DEMO_CHOIR.len());
     assert_eq!(info["auditions"], DEMO_CHOIR.len());
     assert_eq!(info["recordings"], DEMO_CHOIR.len() * 5);
