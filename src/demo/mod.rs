@@ -9,6 +9,7 @@
 
 pub mod choir;
 pub mod run;
+pub mod seed;
 
 use std::path::Path;
 
@@ -209,6 +210,11 @@ pub fn synthesise_task(
     synthesize(&voice_of(singer), &task_segments(singer, task), &config)
 }
 
+/// The synthesis seed of the `index`-th task of an audition seeded `seed`.
+pub fn task_seed(seed: u64, index: usize) -> u64 {
+    seed.wrapping_mul(31).wrapping_add(index as u64)
+}
+
 /// Synthesises and tracks a whole audition (all five tasks) for one singer.
 pub fn audition(singer: &DemoSinger, seed: u64) -> Result<Vec<Recording>, String> {
     audition_to(singer, seed, None)
@@ -229,12 +235,8 @@ pub fn audition_to(
             let failed = |error: &dyn std::fmt::Display| {
                 format!("{} ({}): {error}", singer.name, task.label())
             };
-            let synthesis = synthesise_task(
-                singer,
-                task,
-                seed.wrapping_mul(31).wrapping_add(index as u64),
-            )
-            .map_err(|error| failed(&error))?;
+            let synthesis = synthesise_task(singer, task, task_seed(seed, index))
+                .map_err(|error| failed(&error))?;
             let file = match wav_dir {
                 Some(dir) => {
                     let path = dir.join(format!("{}.wav", task.label()));
@@ -268,6 +270,6 @@ pub fn choir_auditions() -> Vec<(&'static DemoSinger, Result<Vec<Recording>, Str
     DEMO_CHOIR
         .par_iter()
         .enumerate()
-        .map(|(index, singer)| (singer, audition(singer, 1000 + index as u64)))
+        .map(|(index, singer)| (singer, audition(singer, seed::audition_seed(index))))
         .collect()
 }

@@ -20,6 +20,7 @@ use rayon::prelude::*;
 use serde::{Deserialize, Serialize};
 use thiserror::Error;
 
+use super::seed::{DEMO_LAYOUT, SAMPLE_SCORES, audition_seed, singer_slug};
 use super::{DEMO_CHOIR, DemoSinger, audition_to};
 use crate::placement::SizeLimit;
 use crate::plan::{
@@ -33,27 +34,6 @@ use crate::voice::{Profile, ProfileConfig, VoiceError, profile};
 /// The demo choir's name (invented, like its singers).
 pub const CHOIR_NAME: &str = "Wrenhaven Harbour Choir";
 
-/// The bundled programme: the sample scores in concert order, as compressed
-/// MusicXML (the same documents as `sample-scores/*.musicxml`).
-pub const DEMO_PROGRAMME: [(&str, &[u8]); 4] = [
-    (
-        "lanterns-on-the-quay.mxl",
-        include_bytes!("../../sample-scores/lanterns-on-the-quay.mxl"),
-    ),
-    (
-        "the-tide-clock.mxl",
-        include_bytes!("../../sample-scores/the-tide-clock.mxl"),
-    ),
-    (
-        "the-lamplighter.mxl",
-        include_bytes!("../../sample-scores/the-lamplighter.mxl"),
-    ),
-    (
-        "haul-away.mxl",
-        include_bytes!("../../sample-scores/haul-away.mxl"),
-    ),
-];
-
 /// Settings of the demo run.
 #[derive(Debug, Clone, PartialEq)]
 pub struct DemoConfig {
@@ -64,8 +44,6 @@ pub struct DemoConfig {
     pub layout: String,
     /// Size limit for every section of the layout.
     pub section_size: SizeLimit,
-    /// Base seed of the synthesised auditions (singer i uses base + i).
-    pub seed: u64,
     pub profile: ProfileConfig,
     pub programme: ProgrammeConfig,
 }
@@ -78,9 +56,8 @@ impl Default for DemoConfig {
             // section, so the choir is seated in eight sections; 24 singers
             // give three a section on average, and every section needs two
             // to cover a divisi.
-            layout: "SSAATTBB".into(),
+            layout: DEMO_LAYOUT.into(),
             section_size: SizeLimit { min: 2, max: 4 },
-            seed: 1000,
             profile: ProfileConfig::default(),
             programme: ProgrammeConfig::default(),
         }
@@ -138,29 +115,9 @@ pub enum DemoError {
     Report(#[from] crate::report::ReportError),
 }
 
-/// A file-name-safe form of a singer's name: "Teodor Marsh-Ivey" →
-/// "teodor-marsh-ivey".
-pub fn slug(name: &str) -> String {
-    let mut slug = String::with_capacity(name.len());
-    for character in name.chars() {
-        if character.is_ascii_alphanumeric() {
-            slug.push(character.to_ascii_lowercase());
-        } else if !slug.is_empty() && !slug.ends_with('-') {
-            slug.push('-');
-        }
-    }
-    while slug.ends_with('-') {
-        slug.pop();
-    }
-    if slug.is_empty() {
-        slug.push_str("singer");
-    }
-    slug
-}
-
 /// The bundled sample scores, read.
 pub fn demo_programme() -> Result<Vec<Piece>, ScoreError> {
-    DEMO_PROGRAMME
+    SAMPLE_SCORES
         .iter()
         .map(|(name, bytes)| {
             read_score_bytes(
@@ -179,7 +136,7 @@ fn measure(
 ) -> Result<MeasuredSinger, DemoError> {
     let folder = match &config.auditions_dir {
         Some(dir) => {
-            let folder = dir.join(slug(singer.name));
+            let folder = dir.join(singer_slug(singer.name));
             std::fs::create_dir_all(&folder).map_err(|source| DemoError::Write {
                 path: folder.clone(),
                 source,
@@ -188,7 +145,7 @@ fn measure(
         }
         None => None,
     };
-    let recordings = audition_to(singer, config.seed + index as u64, folder.as_deref())
+    let recordings = audition_to(singer, audition_seed(index), folder.as_deref())
         .map_err(DemoError::Audition)?;
     let measured = profile(&recordings, &config.profile).map_err(|source| DemoError::Profile {
         singer: singer.name.to_string(),
@@ -288,21 +245,4 @@ pub fn write_outputs(result: &DemoResult, dir: &Path) -> Result<DemoOutputs, Dem
     };
     crate::report::write_report(&report, &document)?;
     Ok(DemoOutputs { report, roster })
-}
-
-#[cfg(test)]
-mod tests {
-    use super::*;
-
-    #[test]
-    fn slugs_are_lowercase_words_joined_by_hyphens() {
-        // Every demo singer gets a folder of their own.
-        assert_eq!(slug("Teodor Marsh-Ivey"), "teodor-marsh-ivey");
-        assert_eq!(slug("  Ysolde  Penhale "), "ysolde-penhale");
-        assert_eq!(slug("../.."), "singer");
-        let mut slugs: Vec<String> = DEMO_CHOIR.iter().map(|s| slug(s.name)).collect();
-        slugs.sort();
-        slugs.dedup();
-        assert_eq!(slugs.len(), DEMO_CHOIR.len());
-    }
 }
