@@ -248,8 +248,21 @@ fn names_from_a_roster_are_escaped() {
     }
 }
 
-fn write(path: &Path, text: &str) {
-    std::fs::write(path, text).expect("write a fixture");
+/// `ambit place` on the hostile roster and the first sample score, SATB,
+/// with `extra` options, writing `--report REPORT`.
+fn place_with_report(folder: &Path, report: &Path, extra: &[&str]) -> (bool, String, String) {
+    let roster = folder.join("roster.csv");
+    std::fs::write(&roster, HOSTILE_ROSTER).expect("write the roster");
+    let score = common::project_root().join("sample-scores/lanterns-on-the-quay.musicxml");
+    let (roster, score, report) = (
+        roster.to_string_lossy().into_owned(),
+        score.to_string_lossy().into_owned(),
+        report.to_string_lossy().into_owned(),
+    );
+    let mut arguments = vec!["place", "--roster", &roster, "--layout", "SATB"];
+    arguments.extend_from_slice(extra);
+    arguments.extend([score.as_str(), "--report", &report]);
+    common::run_ambit(&arguments)
 }
 
 /// `ambit place --report`: the same renderer from the CLI, and the same
@@ -257,20 +270,8 @@ fn write(path: &Path, text: &str) {
 #[test]
 fn place_writes_a_report_with_report_option() {
     let folder = tempfile::tempdir().expect("a temporary folder");
-    let roster = folder.path().join("roster.csv");
-    write(&roster, HOSTILE_ROSTER);
     let report = folder.path().join("plan.html");
-    let score = common::project_root().join("sample-scores/lanterns-on-the-quay.musicxml");
-    let (success, stdout, stderr) = common::run_ambit(&[
-        "place",
-        "--roster",
-        &roster.to_string_lossy(),
-        "--layout",
-        "SATB",
-        &score.to_string_lossy(),
-        "--report",
-        &report.to_string_lossy(),
-    ]);
+    let (success, stdout, stderr) = place_with_report(folder.path(), &report, &[]);
     assert!(success, "{stderr}");
     assert!(stdout.contains("Basil"), "{stdout}");
     let html = std::fs::read_to_string(&report).expect("the report");
@@ -285,22 +286,8 @@ fn place_writes_a_report_with_report_option() {
 #[test]
 fn an_infeasible_placement_writes_no_report() {
     let folder = tempfile::tempdir().expect("a temporary folder");
-    let roster = folder.path().join("roster.csv");
-    write(&roster, HOSTILE_ROSTER);
     let report = folder.path().join("plan.html");
-    let score = common::project_root().join("sample-scores/lanterns-on-the-quay.musicxml");
-    let (success, stdout, stderr) = common::run_ambit(&[
-        "place",
-        "--roster",
-        &roster.to_string_lossy(),
-        "--layout",
-        "SATB",
-        "--size",
-        "S=5",
-        &score.to_string_lossy(),
-        "--report",
-        &report.to_string_lossy(),
-    ]);
+    let (success, stdout, stderr) = place_with_report(folder.path(), &report, &["--size", "S=5"]);
     assert!(!success, "five sopranos from four singers: {stdout}");
     assert!(
         stderr.contains("no placement meets every constraint"),

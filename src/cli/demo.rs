@@ -11,6 +11,7 @@ use clap::Args;
 
 use ambit::demo::run::{DemoConfig, DemoResult, run_demo, write_outputs};
 
+use super::place::write_at_risk;
 use super::write_stdout;
 
 #[derive(Debug, Args)]
@@ -95,21 +96,7 @@ fn summary(result: &DemoResult) -> Result<String, std::fmt::Error> {
             names.join(", ")
         )?;
     }
-    if !plan.placement.at_risk.is_empty() {
-        writeln!(out)?;
-        writeln!(out, "flagged:")?;
-        for risk in &plan.placement.at_risk {
-            let reasons: Vec<String> = risk.reasons.iter().map(|r| r.describe()).collect();
-            writeln!(
-                out,
-                "  {} in {} (fit {:.1}): {}",
-                risk.singer,
-                risk.section,
-                risk.fit,
-                reasons.join(", ")
-            )?;
-        }
-    }
+    write_at_risk(&mut out, &plan.placement)?;
     writeln!(out)?;
     writeln!(
         out,

@@ -356,24 +356,31 @@ fn table(placement: &Placement) -> Result<String, std::fmt::Error> {
     if placement.balance_penalty > 0.0 {
         writeln!(out, "balance penalty {:.1}", placement.balance_penalty)?;
     }
-    if !placement.at_risk.is_empty() {
-        writeln!(out)?;
-        writeln!(out, "at risk:")?;
-        for risk in &placement.at_risk {
-            let reasons: Vec<String> = risk.reasons.iter().map(RiskReason::describe).collect();
-            writeln!(
-                out,
-                "  {} in {} (fit {:.1}): {}",
-                risk.singer,
-                risk.section,
-                risk.fit,
-                reasons.join(", ")
-            )?;
-        }
-    }
+    write_at_risk(&mut out, placement)?;
     writeln!(out)?;
     for caution in cautions() {
         writeln!(out, "note: {caution}")?;
     }
     Ok(out)
+}
+
+/// The "at risk:" block of the placement table (nothing when nobody is).
+pub(super) fn write_at_risk(out: &mut String, placement: &Placement) -> std::fmt::Result {
+    if placement.at_risk.is_empty() {
+        return Ok(());
+    }
+    writeln!(out)?;
+    writeln!(out, "at risk:")?;
+    for risk in &placement.at_risk {
+        let reasons: Vec<String> = risk.reasons.iter().map(RiskReason::describe).collect();
+        writeln!(
+            out,
+            "  {} in {} (fit {:.1}): {}",
+            risk.singer,
+            risk.section,
+            risk.fit,
+            reasons.join(", ")
+        )?;
+    }
+    Ok(())
 }
