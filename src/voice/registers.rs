@@ -8,6 +8,14 @@
 //! 2008). The jump on the way up usually sits higher than on the way down
 //! (hysteresis), so both directions are reported and the passaggio is
 //! placed between them.
+//!
+//! A register change happens between two stretches of phonation, so a jump
+//! only counts where the voice is sounding at its full level on both sides
+//! and goes on in the new register afterwards. At a glide's onset and
+//! release the level falls by tens of decibels within a frame or two and
+//! the analysis window straddles the edge of the sound; f0 read there is
+//! unreliable and may leap by a semitone or more, which would otherwise be
+//! taken for a break at the very top (or bottom) of the glide.
 
 use serde::{Deserialize, Serialize};
 
@@ -26,6 +34,13 @@ pub struct BreakConfig {
     pub max_jump_seconds: f64,
     /// Longest unvoiced gap across which a jump still counts.
     pub max_gap_seconds: f64,
+    /// Frames further than this below the median level of the voiced
+    /// frames within ±0.25 s are an onset or a release, where f0 is not
+    /// trusted: no break is read there.
+    pub max_level_drop_db: f64,
+    /// The voice must go on this long after the jump (voiced, at full
+    /// level): a register is a stretch of phonation, not one frame.
+    pub min_hold_seconds: f64,
 }
 
 impl Default for BreakConfig {
@@ -34,6 +49,8 @@ impl Default for BreakConfig {
             min_jump_semitones: 1.2,
             max_jump_seconds: 0.035,
             max_gap_seconds: 0.12,
+            max_level_drop_db: 20.0,
+            min_hold_seconds: 0.05,
         }
     }
 }
@@ -72,29 +89,33 @@ pub fn find_breaks(
     tuning: &Tuning,
     config: &BreakConfig,
 ) -> Vec<RegisterBreak> {
-    let voiced: Vec<(f64, f64)> = frames
+    let voiced: Vec<(f64, f64, f64)> = frames
         .iter()
         .filter(|frame| frame.voiced)
-        .filter_map(|frame| Some((frame.time, tuning.hz_to_midi(frame.f0_hz?)?)))
+        .filter_map(|frame| Some((frame.time, tuning.hz_to_midi(frame.f0_hz?)?, frame.level_db)))
         .collect();
+    let full_level = sounding_fully(&voiced, config.max_level_drop_db);
     let mut analyser = SpectrumAnalyser::new(sample_rate);
     let mut breaks = Vec::new();
     let mut index = 1;
     while index < voiced.len() {
-        let (time_before, before) = voiced[index - 1];
-        let (time_after, after) = voiced[index];
+        let (time_before, before, _) = voiced[index - 1];
+        let (time_after, after, _) = voiced[index];
         let gap = time_after - time_before;
         let jump = after - before;
         let quick = gap <= config.max_jump_seconds + 1e-9 || gap <= config.max_gap_seconds;
-        if quick && jump.abs() >= config.min_jump_semitones && jump.abs() <= 12.5 {
+        // Both sides at full level, and the new register held afterwards.
+        let phonated = full_level.get(index - 1).copied().unwrap_or(false)
+            && held_after(&voiced, &full_level, index, config);
+        if quick && phonated && jump.abs() >= config.min_jump_semitones && jump.abs() <= 12.5 {
             // The glide's direction around the jump: the trend over the
             // quarter second before it.
             let trend_start = voiced[..index]
                 .iter()
                 .rev()
-                .take_while(|(time, _)| time_before - time <= 0.25)
+                .take_while(|(time, _, _)| time_before - time <= 0.25)
                 .last()
-                .map_or(before, |&(_, midi)| midi);
+                .map_or(before, |&(_, midi, _)| midi);
             let trend = before - trend_start;
             let direction = if jump > 0.0 {
                 Direction::Up
@@ -145,6 +166,56 @@ pub fn find_breaks(
         index += 1;
     }
     breaks
+}
+
+/// For each voiced frame: whether its level is within `max_drop_db` of the
+/// median level of the voiced frames within ±0.25 s (not an onset or a
+/// release).
+fn sounding_fully(voiced: &[(f64, f64, f64)], max_drop_db: f64) -> Vec<bool> {
+    let mut window: Vec<f64> = Vec::new();
+    let (mut low, mut high) = (0, 0);
+    voiced
+        .iter()
+        .map(|&(time, _, level_db)| {
+            while high < voiced.len() && voiced[high].0 <= time + 0.25 {
+                high += 1;
+            }
+            while low < high && voiced[low].0 < time - 0.25 {
+                low += 1;
+            }
+            window.clear();
+            window.extend(voiced[low..high].iter().map(|&(_, _, level)| level));
+            window.sort_by(f64::total_cmp);
+            let median = window.get(window.len() / 2).copied().unwrap_or(level_db);
+            level_db >= median - max_drop_db
+        })
+        .collect()
+}
+
+/// Whether the voice goes on at full level for `min_hold_seconds` from
+/// frame `index` on, without an unvoiced gap longer than `max_gap_seconds`.
+fn held_after(
+    voiced: &[(f64, f64, f64)],
+    full_level: &[bool],
+    index: usize,
+    config: &BreakConfig,
+) -> bool {
+    let Some(&(start, _, _)) = voiced.get(index) else {
+        return false;
+    };
+    let mut previous = start;
+    for (offset, &(time, _, _)) in voiced.iter().enumerate().skip(index) {
+        if time - previous > config.max_gap_seconds
+            || !full_level.get(offset).copied().unwrap_or(false)
+        {
+            return false;
+        }
+        if time - start >= config.min_hold_seconds - 1e-9 {
+            return true;
+        }
+        previous = time;
+    }
+    false
 }
 
 /// A passaggio placed from the breaks of one or more glides.
@@ -293,6 +364,58 @@ mod tests {
         let passaggi = group_breaks(&breaks, 4.0);
         assert_eq!(passaggi.len(), 1);
         assert!((passaggi[0].midi - 66.5).abs() < 0.3);
+    }
+
+    #[test]
+    fn a_leap_in_the_release_of_a_siren_is_not_a_break() {
+        // A smooth siren up to A4 (69) whose last three frames fade out
+        // (−30, −50, −70 dB against −20 dB) while the f0 read from them leaps
+        // 1.5 semitones: the analysis window straddles the end of the sound.
+        // The voice does not go on in a new register, so it is no break.
+        let mut frames = siren(57.0, 69.0, 2.0, 200.0, 200.0, 0.0);
+        frames.truncate(100);
+        let last_midi = 57.0 + 12.0 * 0.99;
+        for (step, level_db) in [-30.0, -50.0, -70.0].into_iter().enumerate() {
+            let midi = last_midi + 0.1 + 1.5 * step as f64;
+            frames.push(Frame {
+                time: 1.0 + 0.01 * step as f64,
+                f0_hz: Some(440.0 * 2f64.powf((midi - 69.0) / 12.0)),
+                voiced: true,
+                confidence: 0.6,
+                level_db,
+            });
+        }
+        let breaks = find_breaks(
+            &frames,
+            &[],
+            22050,
+            &Tuning::default(),
+            &BreakConfig::default(),
+        );
+        assert!(breaks.is_empty(), "{breaks:?}");
+        // The same leap at full level, with the voice going on above it,
+        // is a break.
+        for frame in frames.iter_mut().skip(100) {
+            frame.level_db = -20.0;
+        }
+        for step in 3..10 {
+            let midi = last_midi + 3.1 + 0.12 * f64::from(step - 2);
+            frames.push(Frame {
+                time: 1.0 + 0.01 * f64::from(step),
+                f0_hz: Some(440.0 * 2f64.powf((midi - 69.0) / 12.0)),
+                voiced: true,
+                confidence: 0.9,
+                level_db: -20.0,
+            });
+        }
+        let breaks = find_breaks(
+            &frames,
+            &[],
+            22050,
+            &Tuning::default(),
+            &BreakConfig::default(),
+        );
+        assert_eq!(breaks.len(), 1, "{breaks:?}");
     }
 
     #[test]
