@@ -279,6 +279,86 @@ pub fn load_recordings(tasks: &[(Task, &Path)]) -> Vec<Result<Recording, VoiceEr
         .collect()
 }
 
+/// How much a recording's clipping and background noise lower the
+/// confidence of the figures read from it.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+pub struct RecordingQuality {
+    /// 1 for a clean recording, down to `MIN_QUALITY`.
+    pub factor: f64,
+    /// The voice's level over the background's, dB: the median level of
+    /// voiced frames less that of unvoiced frames (`None` without 0.2 s of
+    /// unvoiced frames to measure the background in).
+    pub snr_db: Option<f64>,
+    /// What lowered it, in plain words.
+    pub problems: Vec<String>,
+}
+
+/// The lowest quality factor: even a poor recording says something.
+pub const MIN_QUALITY: f64 = 0.4;
+
+/// Clipping and noise penalties (Ambit's own rule, not from a published
+/// source):
+/// - clipping: none up to 0.1 % of samples at full scale (where the decoder
+///   starts to warn), then a quarter per tenfold, so 1 % gives 0.75 and
+///   10 % gives 0.5. Clipped peaks add harmonics and flatten the spectrum, so
+///   timbre and register cues suffer first.
+/// - noise: none at 30 dB signal-to-noise or better, falling linearly to
+///   0.5 at 10 dB. The tracker evaluation (METHODS.md, Tracker evaluation)
+///   runs white noise at 40, 20 and 10 dB: at 10 dB voicing decisions and
+///   the spectral measures are visibly worse than on clean singing.
+///
+/// The factors multiply, floored at [`MIN_QUALITY`].
+pub fn recording_quality(recording: &Recording) -> RecordingQuality {
+    let mut problems = Vec::new();
+    let clipped = recording.clipped_share;
+    let clip_factor = if clipped > 0.001 {
+        let factor = (1.0 - 0.25 * (clipped / 0.001).log10()).max(0.5);
+        problems.push(format!(
+            "clipped: {:.1} % of samples are at full scale, so loud notes are distorted; every confidence read from it was lowered (×{factor:.2}). Record with more headroom.",
+            100.0 * clipped
+        ));
+        factor
+    } else {
+        1.0
+    };
+    let mut voiced_levels = Vec::new();
+    let mut unvoiced_levels = Vec::new();
+    for frame in &recording.track.frames {
+        if frame.voiced {
+            voiced_levels.push(frame.level_db);
+        } else {
+            unvoiced_levels.push(frame.level_db);
+        }
+    }
+    let median = |mut levels: Vec<f64>| -> Option<f64> {
+        levels.sort_by(f64::total_cmp);
+        levels.get(levels.len() / 2).copied()
+    };
+    let hop = recording.track.hop_seconds.max(1e-3);
+    let snr_db = if unvoiced_levels.len() as f64 * hop >= 0.2 {
+        median(voiced_levels)
+            .zip(median(unvoiced_levels))
+            .map(|(voice, background)| voice - background)
+    } else {
+        None
+    };
+    let noise_factor = match snr_db {
+        Some(snr) if snr < 30.0 => {
+            let factor = 0.5 + 0.5 * ((snr - 10.0) / 20.0).clamp(0.0, 1.0);
+            problems.push(format!(
+                "noisy: the voice is only {snr:.0} dB above the background noise, so pitch and timbre readings are less certain; every confidence read from it was lowered (×{factor:.2}). Record in a quieter room, closer to the microphone."
+            ));
+            factor
+        }
+        _ => 1.0,
+    };
+    RecordingQuality {
+        factor: (clip_factor * noise_factor).max(MIN_QUALITY),
+        snr_db,
+        problems,
+    }
+}
+
 /// Notes of one recording with the recording they came from.
 struct Analysed<'a> {
     recording: &'a Recording,
@@ -307,7 +387,7 @@ pub fn profile(recordings: &[Recording], config: &ProfileConfig) -> Result<Profi
         return Err(VoiceError::NoRecordings);
     }
     let mut warnings = Vec::new();
-    let mut quality = 1.0_f64;
+    let mut qualities: Vec<(Task, f64)> = Vec::new();
     for recording in recordings {
         for warning in &recording.warnings {
             warnings.push(format!(
@@ -316,11 +396,15 @@ pub fn profile(recordings: &[Recording], config: &ProfileConfig) -> Result<Profi
                 recording.task.label()
             ));
         }
-        // Clipping above 1 % or a noise floor above −35 dBFS makes every
-        // measured figure less certain.
-        if recording.clipped_share > 0.01 || recording.noise_floor_db > -35.0 {
-            quality = quality.min(0.75);
+        let quality = recording_quality(recording);
+        for problem in &quality.problems {
+            warnings.push(format!(
+                "{} ({}): {problem}",
+                recording.file,
+                recording.task.label()
+            ));
         }
+        qualities.push((recording.task, quality.factor));
     }
 
     let analysed: Vec<Analysed> = recordings
@@ -359,6 +443,19 @@ pub fn profile(recordings: &[Recording], config: &ProfileConfig) -> Result<Profi
         usable_tasks.push(recording.task);
     }
     let usable = |item: &&Analysed| usable_tasks.contains(&item.recording.task);
+    // The confidence of a figure drops with the worst recording it is read
+    // from (clipping and noise: see `recording_quality`).
+    let quality_of = |tasks: &[Task]| {
+        qualities
+            .iter()
+            .filter(|(task, _)| tasks.contains(task) && usable_tasks.contains(task))
+            .map(|(_, factor)| *factor)
+            .fold(1.0_f64, f64::min)
+    };
+    let sung_quality = quality_of(&[Task::Glide, Task::Scale, Task::Sustain, Task::Song]);
+    let comfort_quality = quality_of(&[Task::Scale, Task::Song]);
+    let glide_quality = quality_of(&[Task::Glide]);
+    let overall_quality = quality_of(&Task::ALL);
     let missing_tasks: Vec<Task> = Task::ALL
         .into_iter()
         .filter(|task| !usable_tasks.contains(task))
@@ -484,7 +581,7 @@ pub fn profile(recordings: &[Recording], config: &ProfileConfig) -> Result<Profi
             + 0.3 * (steady_seconds / 15.0).min(1.0)
             + if has_scale { 0.1 } else { 0.0 }
             + if has_song { 0.1 } else { 0.0 })
-            * quality;
+            * comfort_quality;
         Comfort {
             span: PitchSpan::new(low, high),
             confidence: confidence.min(0.95),
@@ -500,7 +597,7 @@ pub fn profile(recordings: &[Recording], config: &ProfileConfig) -> Result<Profi
         let high = (range.high_midi - 4.0).max(low);
         Comfort {
             span: PitchSpan::new(low, high),
-            confidence: 0.3 * quality,
+            confidence: 0.3 * sung_quality,
             basis: "no scale or song to measure it from: estimated as a minor third above the lowest and a major third below the highest held note".into(),
         }
     };
@@ -596,7 +693,7 @@ pub fn profile(recordings: &[Recording], config: &ProfileConfig) -> Result<Profi
             name: nearest_name(candidate.midi),
             kind,
             source: PassaggioSource::Measured,
-            confidence: candidate.confidence * quality,
+            confidence: candidate.confidence * glide_quality,
             upward_midi: candidate.upward_midi,
             downward_midi: candidate.downward_midi,
         });
@@ -610,7 +707,7 @@ pub fn profile(recordings: &[Recording], config: &ProfileConfig) -> Result<Profi
     let classification = classify(&evidence);
     let best = classification.ranked[0].voice_type;
     let best_typical = best.typical();
-    let type_confidence = classification.ranked[0].confidence * quality;
+    let type_confidence = classification.ranked[0].confidence * overall_quality;
     for (kind, midi) in [
         (PassaggioKind::Primo, best_typical.primo_midi),
         (PassaggioKind::Secondo, best_typical.secondo_midi),
@@ -677,7 +774,7 @@ pub fn profile(recordings: &[Recording], config: &ProfileConfig) -> Result<Profi
         .filter(|c| c.confidence >= 0.01)
         .map(|c| TypeShare {
             label: c.voice_type.label().into(),
-            confidence: c.confidence * quality,
+            confidence: c.confidence * overall_quality,
         })
         .collect();
     let mut profile_cautions = cautions();
@@ -685,7 +782,7 @@ pub fn profile(recordings: &[Recording], config: &ProfileConfig) -> Result<Profi
 
     Ok(Profile {
         range,
-        range_confidence: range_confidence * quality,
+        range_confidence: range_confidence * sung_quality,
         comfort,
         reached,
         passaggi,
@@ -919,6 +1016,31 @@ mod tests {
             profile.warnings
         );
         assert!(profile.missing_tasks.contains(&Task::Song));
+    }
+
+    #[test]
+    fn quality_falls_with_noise_and_clipping_but_not_with_a_quiet_clean_take() {
+        // A sustain whose voiced frames sit `snr` dB over its unvoiced ones.
+        let take = |snr_db: f64, clipped_share: f64| {
+            let mut recording = sung(Task::Sustain, &[(60.0, 2.0), (67.0, 2.0)]);
+            for frame in &mut recording.track.frames {
+                frame.level_db = if frame.voiced { -40.0 } else { -40.0 - snr_db };
+            }
+            recording.clipped_share = clipped_share;
+            recording_quality(&recording)
+        };
+        // Quiet (−40 dBFS) but 50 dB over the background: nothing to lower.
+        let clean = take(50.0, 0.0);
+        assert_eq!(clean.factor, 1.0);
+        assert!(clean.problems.is_empty(), "{:?}", clean.problems);
+        // Worse SNR, lower factor; each problem is named.
+        let (twenty, ten) = (take(20.0, 0.0), take(10.0, 0.0));
+        assert!(ten.factor < twenty.factor && twenty.factor < 1.0);
+        assert!(ten.problems.iter().any(|p| p.starts_with("noisy")));
+        let (one, ten_percent) = (take(50.0, 0.01), take(50.0, 0.1));
+        assert!(ten_percent.factor < one.factor && one.factor < 1.0);
+        assert!(one.problems.iter().any(|p| p.starts_with("clipped")));
+        assert!(take(5.0, 0.5).factor >= MIN_QUALITY);
     }
 
     #[test]
