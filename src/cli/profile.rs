@@ -66,8 +66,10 @@ pub fn run(arguments: ProfileArgs) -> anyhow::Result<()> {
         return Ok(());
     }
     println!(
-        "Range (held ≥ 1 s)   {} – {}",
-        result.range.low, result.range.high
+        "Range (held ≥ 1 s)   {} – {}  (confidence {:.0} %)",
+        result.range.low,
+        result.range.high,
+        result.range_confidence * 100.0
     );
     if let Some(reached) = &result.reached {
         println!(
@@ -111,6 +113,15 @@ pub fn run(arguments: ProfileArgs) -> anyhow::Result<()> {
             nearest_name(ambit::pitch::hz_to_midi(hz).unwrap_or(0.0))
         ),
         None => println!("Speaking f0          — (no speech task)"),
+    }
+    if let Some(timbre) = &result.timbre {
+        let tilt = timbre
+            .alpha_ratio_db
+            .map_or_else(String::new, |alpha| format!(", alpha ratio {alpha:.1} dB"));
+        println!(
+            "Timbre               centroid {:.0} Hz, singer's formant {:.1} dB{tilt} (weak evidence, not used for the type)",
+            timbre.centroid_hz, timbre.singers_formant_db
+        );
     }
     println!(
         "Voice type           {} ({:.0} %)",

@@ -507,8 +507,15 @@ pub fn profile(recordings: &[Recording], config: &ProfileConfig) -> Result<Profi
             Some(span.map_or((note.midi, note.midi), |(l, h)| (l.min(note.midi), h.max(note.midi))))
         })
         .ok_or_else(|| {
+            // Say why, per file and task: the warnings gathered so far name
+            // recordings with no voice, or speech where singing was asked.
+            let why = if warnings.is_empty() {
+                String::new()
+            } else {
+                format!(" ({})", warnings.join("; "))
+            };
             VoiceError::NoSinging(format!(
-                "no held sung note was found in {}; the singer needs to hold notes (sustain, scale or song tasks)",
+                "no held sung note was found in {}; the singer needs to hold notes (sustain, scale or song tasks){why}",
                 files.join(", ")
             ))
         })?;

@@ -76,6 +76,10 @@ pub struct RegisterBreak {
     pub h1_h2_change_db: Option<f64>,
     /// Change of spectral centroid (Hz) from the lower to the upper side.
     pub centroid_change_hz: Option<f64>,
+    /// Change of spectral tilt as the alpha ratio (dB) from the lower to the
+    /// upper side: negative when the upper side's spectrum is steeper.
+    #[serde(default)]
+    pub alpha_ratio_change_db: Option<f64>,
     /// 0–1: a larger jump and a spectral change in the expected direction
     /// raise it.
     pub confidence: f64,
@@ -141,11 +145,20 @@ pub fn find_breaks(
                 let h1_h2_change_db = lower.zip(upper).map(|(l, u)| u.h1_h2_db - l.h1_h2_db);
                 let centroid_change_hz =
                     lower.zip(upper).map(|(l, u)| u.centroid_hz - l.centroid_hz);
+                let alpha_ratio_change_db = lower
+                    .zip(upper)
+                    .and_then(|(l, u)| Some(u.alpha_ratio_db? - l.alpha_ratio_db?))
+                    .filter(|change| change.is_finite());
                 // Confidence: the jump size (1.2 st → 0.4, ≥ 3 st → 0.7) plus
-                // up to 0.3 when H1–H2 rises into the upper register.
+                // up to 0.2 when H1–H2 rises into the upper register and up
+                // to 0.1 when its spectrum is steeper (alpha ratio falls):
+                // both mark the change from M1 to M2 (Roubeau, Henrich &
+                // Castellengo 2009; Salomão & Sundberg 2008).
                 let jump_part = 0.4 + 0.3 * ((jump.abs() - 1.2) / 1.8).clamp(0.0, 1.0);
-                let spectral_part =
-                    h1_h2_change_db.map_or(0.0, |change| 0.3 * (change / 6.0).clamp(0.0, 1.0));
+                let spectral_part = h1_h2_change_db
+                    .map_or(0.0, |change| 0.2 * (change / 6.0).clamp(0.0, 1.0))
+                    + alpha_ratio_change_db
+                        .map_or(0.0, |change| 0.1 * (-change / 6.0).clamp(0.0, 1.0));
                 breaks.push(RegisterBreak {
                     time_seconds: (time_before + time_after) / 2.0,
                     direction,
@@ -154,6 +167,7 @@ pub fn find_breaks(
                     midi: (before + after) / 2.0,
                     h1_h2_change_db,
                     centroid_change_hz,
+                    alpha_ratio_change_db,
                     confidence: (jump_part + spectral_part).min(1.0),
                 });
                 // Skip the frames right after this break.
