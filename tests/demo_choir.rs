@@ -76,6 +76,15 @@ fn demo_auditions_recover_range_type_and_passaggi() {
                 breaks_found += 1;
             }
         }
+        // Every task of a clean demo audition is used (none taken for
+        // speech or silence).
+        assert!(
+            measured.missing_tasks.is_empty(),
+            "{}: {:?} left out: {:#?}",
+            singer.name,
+            measured.missing_tasks,
+            measured.warnings
+        );
         // Every profile carries the cautions.
         assert!(
             measured

@@ -2,9 +2,8 @@
 //!
 //! "A recording with no singing, or only noise or speech where singing was
 //! asked: a clear message naming the task and file": `ambit profile` is run
-//! on white noise given as the sustain task. (Speech given as a sung task is
-//! checked on a tracked contour in `src/voice/mod.rs`; synthesised speech
-//! recordings are not yet told apart from singing reliably.)
+//! on white noise given as the sustain task, and on every demo singer's
+//! synthesised speech given as the song.
 //!
 //! "Clipped or very noisy recordings: a warning, and the confidence is
 //! lowered": the profile warns, naming the problem and the file, and its
@@ -158,6 +157,13 @@ fn clipping_and_noise_lower_the_confidence_and_are_named() {
                 degraded.warnings
             );
         }
+        // The singing is still singing: no task is left out.
+        assert!(
+            degraded.missing_tasks.is_empty(),
+            "{condition:?}: {:?} left out: {:#?}",
+            degraded.missing_tasks,
+            degraded.warnings
+        );
         // Every reported confidence is lower than on the clean recording.
         assert!(
             degraded.voice_type.confidence < clean.voice_type.confidence,
@@ -195,7 +201,7 @@ fn write_noise(path: &Path, seconds: f64) {
 }
 
 #[test]
-fn noise_where_singing_was_asked_is_named_by_task_and_file() {
+fn noise_or_speech_where_singing_was_asked_is_named_by_task_and_file() {
     let folder = tempfile::tempdir().expect("a scratch folder");
     let noise = folder.path().join("hiss.wav");
     write_noise(&noise, 3.0);
@@ -219,6 +225,41 @@ fn noise_where_singing_was_asked_is_named_by_task_and_file() {
         stderr.contains("hiss.wav (sustain): no voice found"),
         "{stderr}"
     );
+
+    // Speech where a song was asked, for every demo voice: reported by file
+    // and task, and left out.
+    for (index, speaker) in DEMO_CHOIR.iter().enumerate() {
+        let speech = folder.path().join(format!("reading-{index}.wav"));
+        write_wav(
+            &speech,
+            &synthesise_task(speaker, Task::Speech, 60 + index as u64).expect("renders"),
+        )
+        .expect("writes");
+        let speech = speech.display().to_string();
+        let (ok, stdout, stderr) = common::run_ambit(&[
+            "profile",
+            "--sustain",
+            &sustain,
+            "--song",
+            &speech,
+            "--json",
+        ]);
+        assert!(ok, "{stderr}");
+        let profile: serde_json::Value = serde_json::from_str(&stdout).expect("JSON");
+        let file = format!("reading-{index}.wav (song)");
+        assert!(
+            profile["warnings"]
+                .as_array()
+                .expect("warnings")
+                .iter()
+                .any(|w| w
+                    .as_str()
+                    .is_some_and(|w| w.contains(&file) && w.contains("not singing"))),
+            "{}: speech taken for a song: {:#?}",
+            speaker.name,
+            profile["warnings"]
+        );
+    }
 
     // With a real sustain beside it, the profile is made and the noise
     // recording is reported with its task.
