@@ -7,7 +7,7 @@
 //! `src/voice/types.rs`, and the tracker against librosa.pyin and vocadito.
 
 use ambit::demo::{DEMO_CHOIR, break_midi, choir_auditions};
-use ambit::voice::registers::{Direction, find_breaks};
+use ambit::voice::registers::{Direction, Register, find_breaks};
 use ambit::voice::{PassaggioSource, ProfileConfig, Task, profile};
 
 #[test]
@@ -15,6 +15,7 @@ fn demo_auditions_recover_range_type_and_passaggi() {
     let mut range_within_a_semitone = 0;
     let mut type_correct = 0;
     let (mut breaks, mut breaks_found) = (0, 0);
+    let mut registers_right = 0;
     let mut spurious = Vec::new();
     let mut report = Vec::new();
     let config = ProfileConfig::default();
@@ -76,6 +77,28 @@ fn demo_auditions_recover_range_type_and_passaggi() {
                 breaks_found += 1;
             }
         }
+        // Registers: where the glide breaks, the synthesiser sings the low
+        // held note in modal (M1) and the high one in falsetto or head voice
+        // (M2), so the modal notes reach down to the range's low end and the
+        // falsetto ones up to its top.
+        if singer.glide_breaks {
+            let span = |register: Register| {
+                measured
+                    .registers
+                    .iter()
+                    .find(|r| r.register == register)
+                    .map(|r| (r.span.low_midi, r.span.high_midi))
+            };
+            let modal = span(Register::Modal);
+            let falsetto = span(Register::Falsetto);
+            if modal.is_some_and(|(low, _)| (low - singer.range_low_midi).abs() <= 1.0)
+                && falsetto.is_some_and(|(_, high)| (high - singer.range_high_midi).abs() <= 1.0)
+            {
+                registers_right += 1;
+            } else {
+                eprintln!("{}: modal {modal:?}, falsetto {falsetto:?}", singer.name);
+            }
+        }
         // Every task of a clean demo audition is used (none taken for
         // speech or silence).
         assert!(
@@ -105,7 +128,7 @@ fn demo_auditions_recover_range_type_and_passaggi() {
     let singers = DEMO_CHOIR.len();
     eprintln!("{}", report.join("\n"));
     eprintln!(
-        "range {range_within_a_semitone}/{singers}, type {type_correct}/{singers}, breaks {breaks_found}/{breaks}"
+        "range {range_within_a_semitone}/{singers}, type {type_correct}/{singers}, breaks {breaks_found}/{breaks}, registers {registers_right}/{breaks}"
     );
     assert!(
         range_within_a_semitone * 100 >= 95 * singers,
@@ -116,6 +139,7 @@ fn demo_auditions_recover_range_type_and_passaggi() {
         "type {type_correct}/{singers}"
     );
     assert_eq!(breaks_found, breaks, "measured passaggi within ±1 semitone");
+    assert_eq!(registers_right, breaks, "modal and falsetto spans");
     assert!(spurious.is_empty(), "spurious breaks: {spurious:#?}");
 }
 

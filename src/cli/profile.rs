@@ -107,6 +107,22 @@ pub fn run(arguments: ProfileArgs) -> anyhow::Result<()> {
             passaggio.confidence * 100.0
         );
     }
+    if !result.registers.is_empty() {
+        let spans: Vec<String> = result
+            .registers
+            .iter()
+            .map(|r| {
+                format!(
+                    "{} {}–{} ({:.1} s)",
+                    r.register.label(),
+                    r.span.low,
+                    r.span.high,
+                    r.seconds
+                )
+            })
+            .collect();
+        println!("Registers (sung)     {}", spans.join(", "));
+    }
     match result.speaking_f0_hz {
         Some(hz) => println!(
             "Speaking f0          {hz:.0} Hz ({})",

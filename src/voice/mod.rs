@@ -31,7 +31,7 @@ use crate::pitch::{Tuning, hz_to_midi, nearest_name};
 use crate::track::{self, Track, TrackConfig};
 
 use notes::{SegmentConfig, SungNote, segment_notes};
-use registers::{BreakConfig, find_breaks, group_breaks};
+use registers::{BreakConfig, Register, RegisterBounds, find_breaks, group_breaks, note_register};
 use timbre::{SpectralMeasures, SpectrumAnalyser, median_measures};
 use types::{Evidence, VoiceType, classify, rank_sections};
 
@@ -102,6 +102,10 @@ pub struct ProfileConfig {
     pub fry_max_hz: f64,
     /// Frame-to-frame irregularity (cents RMS) above which a low note is fry.
     pub fry_irregularity_cents: f64,
+    /// At or above this f0 a note is whistle register (M3). From memory:
+    /// the whistle register lies above the soprano's usual top, about C6
+    /// (1047 Hz) and higher; 1100 Hz keeps a soprano's C6 in head voice.
+    pub whistle_min_hz: f64,
     /// A comfort-zone note must drift less than this (cents SD)...
     pub steady_drift_cents: f64,
     /// ...and keep its level within this SD (dB).
@@ -122,6 +126,7 @@ impl Default for ProfileConfig {
             sustain_min_seconds: 1.0,
             fry_max_hz: 70.0,
             fry_irregularity_cents: 40.0,
+            whistle_min_hz: 1100.0,
             steady_drift_cents: 25.0,
             steady_level_sd_db: 4.0,
             sung_note_seconds: 0.3,
@@ -189,6 +194,15 @@ pub struct Passaggio {
     pub downward_midi: Option<f64>,
 }
 
+/// The sung notes of one register: where they lie and how long they were sung.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+pub struct RegisterSpan {
+    pub register: Register,
+    #[serde(flatten)]
+    pub span: PitchSpan,
+    pub seconds: f64,
+}
+
 /// A ranked voice type.
 #[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
 pub struct TypeShare {
@@ -215,6 +229,10 @@ pub struct Profile {
     /// Glide extremes: reached, not sustained.
     pub reached: Option<PitchSpan>,
     pub passaggi: Vec<Passaggio>,
+    /// The sung notes by register (fry, modal, falsetto, whistle). Modal
+    /// and falsetto are told apart only by a measured glide break.
+    #[serde(default)]
+    pub registers: Vec<RegisterSpan>,
     pub speaking_f0_hz: Option<f64>,
     pub timbre: Option<SpectralMeasures>,
     pub voice_type: VoiceTypeResult,
@@ -749,6 +767,44 @@ pub fn profile(recordings: &[Recording], config: &ProfileConfig) -> Result<Profi
     }
     passaggi.sort_by(|a, b| a.midi.total_cmp(&b.midi));
 
+    // Registers of the sung notes: fry and whistle by pitch (and fry's
+    // irregularity); modal and falsetto either side of the strongest
+    // measured glide break, the M1→M2 transition.
+    let bounds = RegisterBounds {
+        fry_max_midi: fry_midi,
+        fry_irregularity_cents: config.fry_irregularity_cents,
+        break_midi: measured.first().map(|m| m.midi),
+        whistle_min_midi: hz_to_midi(config.whistle_min_hz).unwrap_or(85.0),
+    };
+    let mut registers: Vec<RegisterSpan> = Vec::new();
+    // The notes of the sung tasks other than glides, whose turns are
+    // reached, not sung.
+    for note in analysed
+        .iter()
+        .filter(usable)
+        .filter(|item| item.recording.task.is_sung() && item.recording.task != Task::Glide)
+        .flat_map(|item| item.notes.iter())
+    {
+        let Some(register) = note_register(note.midi, note.irregularity_cents, &bounds) else {
+            continue;
+        };
+        match registers.iter_mut().find(|r| r.register == register) {
+            Some(existing) => {
+                existing.span = PitchSpan::new(
+                    existing.span.low_midi.min(note.midi),
+                    existing.span.high_midi.max(note.midi),
+                );
+                existing.seconds += note.seconds();
+            }
+            None => registers.push(RegisterSpan {
+                register,
+                span: PitchSpan::new(note.midi, note.midi),
+                seconds: note.seconds(),
+            }),
+        }
+    }
+    registers.sort_by_key(|r| r.register);
+
     // Section: the best of the sections a voice of this type sings in.
     let allowed: &[&str] = match best {
         VoiceType::Bass | VoiceType::Baritone => &["B1", "B2", "T2"],
@@ -809,6 +865,7 @@ pub fn profile(recordings: &[Recording], config: &ProfileConfig) -> Result<Profi
         comfort,
         reached,
         passaggi,
+        registers,
         speaking_f0_hz,
         timbre,
         voice_type: VoiceTypeResult {
@@ -978,6 +1035,46 @@ mod tests {
         assert!(profile.missing_tasks.is_empty());
         assert!(profile.cautions.iter().any(|c| c.contains("not a medical")));
         assert!(!profile.reasons.is_empty());
+    }
+
+    #[test]
+    fn fry_is_left_out_of_the_range_and_registers_are_reported() {
+        // The tenor audition plus a second sustain: 1.5 s of creak at 60 Hz
+        // (MIDI 34.5) whose pitch alternates ±40 cents frame to frame. Fry
+        // is not part of the singing range (voice-range-profile practice;
+        // common practice), but it is reported as a register.
+        let mut recordings = tenor_audition();
+        let mut creak = recording(Task::Sustain, 1.8, |t| {
+            let frame = (t / HOP).round() as i64;
+            (t > 0.1 && t < 1.6).then(|| 34.5 + if frame % 2 == 0 { 0.4 } else { -0.4 })
+        });
+        creak.file = "creak.wav".into();
+        recordings.push(creak);
+        let profile = profile(&recordings, &ProfileConfig::default()).unwrap();
+        assert!(
+            (profile.range.low_midi - 48.0).abs() < 0.5,
+            "{:?}",
+            profile.range
+        );
+        let span = |register: Register| {
+            profile
+                .registers
+                .iter()
+                .find(|r| r.register == register)
+                .unwrap_or_else(|| panic!("no {register:?} in {:?}", profile.registers))
+        };
+        assert!((span(Register::Fry).span.low_midi - 34.5).abs() < 0.2);
+        // The glide broke near G#4 (68), so the held C3 is modal and the
+        // held B4 (71) falsetto.
+        assert!((span(Register::Modal).span.low_midi - 48.0).abs() < 0.5);
+        assert!((span(Register::Falsetto).span.high_midi - 71.0).abs() < 0.5);
+        assert!(span(Register::Modal).span.high_midi < 69.0);
+        assert!(
+            !profile
+                .registers
+                .iter()
+                .any(|r| r.register == Register::Whistle)
+        );
     }
 
     #[test]

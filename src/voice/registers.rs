@@ -24,6 +24,73 @@ use crate::track::Frame;
 
 use super::timbre::SpectrumAnalyser;
 
+/// The four registers of the trade (common practice): vocal fry (pulse
+/// register), modal (chest; laryngeal mechanism M1), falsetto or head voice
+/// (M2) and whistle (flageolet; M3). The mechanisms are those of Roubeau,
+/// Henrich & Castellengo 2009 (M0 is fry).
+#[derive(Debug, Clone, Copy, PartialEq, Eq, PartialOrd, Ord, Serialize, Deserialize)]
+#[serde(rename_all = "snake_case")]
+pub enum Register {
+    Fry,
+    Modal,
+    Falsetto,
+    Whistle,
+}
+
+impl Register {
+    pub const ALL: [Register; 4] = [
+        Register::Fry,
+        Register::Modal,
+        Register::Falsetto,
+        Register::Whistle,
+    ];
+
+    pub fn label(self) -> &'static str {
+        match self {
+            Register::Fry => "fry",
+            Register::Modal => "modal",
+            Register::Falsetto => "falsetto",
+            Register::Whistle => "whistle",
+        }
+    }
+}
+
+/// Where the registers lie for one singer: the inputs of [`note_register`].
+#[derive(Debug, Clone, Copy, PartialEq, Serialize, Deserialize)]
+pub struct RegisterBounds {
+    /// Below this pitch an irregular note is fry.
+    pub fry_max_midi: f64,
+    /// Frame-to-frame irregularity (cents RMS) above which a low note is fry.
+    pub fry_irregularity_cents: f64,
+    /// The measured M1→M2 break, if a glide showed one: notes above it are
+    /// falsetto (head voice), notes at or below it modal.
+    pub break_midi: Option<f64>,
+    /// At or above this pitch a note is whistle register.
+    pub whistle_min_midi: f64,
+}
+
+/// The register of a sung note at `midi` with the given irregularity, or
+/// `None` where modal and falsetto cannot be told apart (no measured break).
+pub fn note_register(
+    midi: f64,
+    irregularity_cents: f64,
+    bounds: &RegisterBounds,
+) -> Option<Register> {
+    if midi < bounds.fry_max_midi && irregularity_cents > bounds.fry_irregularity_cents {
+        Some(Register::Fry)
+    } else if midi >= bounds.whistle_min_midi {
+        Some(Register::Whistle)
+    } else {
+        bounds.break_midi.map(|at| {
+            if midi > at {
+                Register::Falsetto
+            } else {
+                Register::Modal
+            }
+        })
+    }
+}
+
 /// Detection settings.
 #[derive(Debug, Clone, Copy, PartialEq, Serialize, Deserialize)]
 pub struct BreakConfig {
@@ -430,6 +497,33 @@ mod tests {
             &BreakConfig::default(),
         );
         assert_eq!(breaks.len(), 1, "{breaks:?}");
+    }
+
+    #[test]
+    fn notes_fall_into_the_four_registers() {
+        // Fry below 70 Hz when irregular; whistle from 1100 Hz (C#6) up;
+        // modal and falsetto either side of a break measured at G4 (67).
+        let bounds = RegisterBounds {
+            fry_max_midi: 37.1, // 70 Hz
+            fry_irregularity_cents: 40.0,
+            break_midi: Some(67.0),
+            whistle_min_midi: 85.1, // 1100 Hz
+        };
+        // A 55 Hz (A1, MIDI 33) creak with 80 cents of frame-to-frame
+        // irregularity is fry; the same pitch sung steadily is modal.
+        assert_eq!(note_register(33.0, 80.0, &bounds), Some(Register::Fry));
+        assert_eq!(note_register(33.0, 5.0, &bounds), Some(Register::Modal));
+        assert_eq!(note_register(60.0, 5.0, &bounds), Some(Register::Modal));
+        assert_eq!(note_register(71.0, 5.0, &bounds), Some(Register::Falsetto));
+        // F6 (1397 Hz, MIDI 89): whistle.
+        assert_eq!(note_register(89.0, 5.0, &bounds), Some(Register::Whistle));
+        // Without a measured break, modal and falsetto are not told apart.
+        let unmeasured = RegisterBounds {
+            break_midi: None,
+            ..bounds
+        };
+        assert_eq!(note_register(71.0, 5.0, &unmeasured), None);
+        assert_eq!(Register::ALL.len(), 4);
     }
 
     #[test]
