@@ -185,19 +185,35 @@ fn clipping_and_noise_lower_the_confidence_and_are_named() {
 
 /// Writes `seconds` of white Gaussian noise at about −20 dBFS RMS.
 fn write_noise(path: &Path, seconds: f64) {
-    let spec = hound::WavSpec {
-        channels: 1,
-        sample_rate: 22_050,
-        bits_per_sample: 16,
-        sample_format: hound::SampleFormat::Int,
-    };
-    let mut writer = hound::WavWriter::create(path, spec).expect("creates");
     let mut random = SplitMix64::new(7);
-    for _ in 0..(seconds * 22_050.0) as usize {
-        let value = (0.1 * random.normal() * 32767.0).clamp(-32768.0, 32767.0) as i16;
-        writer.write_sample(value).expect("writes");
-    }
-    writer.finalize().expect("finishes");
+    let noise = Synthesis {
+        samples: (0..(seconds * 22_050.0) as usize)
+            .map(|_| (0.1 * random.normal()) as f32)
+            .collect(),
+        sample_rate: 22_050,
+        hop_seconds: 0.01,
+        truth: Vec::new(),
+        segments: Vec::new(),
+        notes: Vec::new(),
+        register_breaks: Vec::new(),
+        snr_db: None,
+    };
+    write_wav(path, &noise).expect("writes");
+}
+
+/// Runs `ambit profile … --json` and returns the profile's warnings.
+fn profile_warnings(arguments: &[&str]) -> Vec<String> {
+    let mut arguments = arguments.to_vec();
+    arguments.push("--json");
+    let (ok, stdout, stderr) = common::run_ambit(&arguments);
+    assert!(ok, "{stderr}");
+    let profile: serde_json::Value = serde_json::from_str(&stdout).expect("JSON");
+    profile["warnings"]
+        .as_array()
+        .expect("warnings")
+        .iter()
+        .filter_map(|w| w.as_str().map(String::from))
+        .collect()
 }
 
 #[test]
@@ -236,49 +252,20 @@ fn noise_or_speech_where_singing_was_asked_is_named_by_task_and_file() {
         )
         .expect("writes");
         let speech = speech.display().to_string();
-        let (ok, stdout, stderr) = common::run_ambit(&[
-            "profile",
-            "--sustain",
-            &sustain,
-            "--song",
-            &speech,
-            "--json",
-        ]);
-        assert!(ok, "{stderr}");
-        let profile: serde_json::Value = serde_json::from_str(&stdout).expect("JSON");
+        let warnings = profile_warnings(&["profile", "--sustain", &sustain, "--song", &speech]);
         let file = format!("reading-{index}.wav (song)");
         assert!(
-            profile["warnings"]
-                .as_array()
-                .expect("warnings")
+            warnings
                 .iter()
-                .any(|w| w
-                    .as_str()
-                    .is_some_and(|w| w.contains(&file) && w.contains("not singing"))),
-            "{}: speech taken for a song: {:#?}",
-            speaker.name,
-            profile["warnings"]
+                .any(|w| w.contains(&file) && w.contains("not singing")),
+            "{}: speech taken for a song: {warnings:#?}",
+            speaker.name
         );
     }
 
     // With a real sustain beside it, the profile is made and the noise
     // recording is reported with its task.
-    let (ok, stdout, stderr) = common::run_ambit(&[
-        "profile",
-        "--sustain",
-        &sustain,
-        "--sustain",
-        &noise,
-        "--json",
-    ]);
-    assert!(ok, "{stderr}");
-    let profile: serde_json::Value = serde_json::from_str(&stdout).expect("JSON");
-    let warnings: Vec<&str> = profile["warnings"]
-        .as_array()
-        .expect("warnings")
-        .iter()
-        .filter_map(|w| w.as_str())
-        .collect();
+    let warnings = profile_warnings(&["profile", "--sustain", &sustain, "--sustain", &noise]);
     assert!(
         warnings
             .iter()

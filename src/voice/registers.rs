@@ -380,6 +380,26 @@ pub fn group_breaks(breaks: &[RegisterBreak], window: f64) -> Vec<MeasuredPassag
 mod tests {
     use super::*;
 
+    fn frame(time: f64, midi: f64, level_db: f64) -> Frame {
+        Frame {
+            time,
+            f0_hz: Some(440.0 * 2f64.powf((midi - 69.0) / 12.0)),
+            voiced: true,
+            confidence: 0.9,
+            level_db,
+        }
+    }
+
+    fn breaks_in(frames: &[Frame]) -> Vec<RegisterBreak> {
+        find_breaks(
+            frames,
+            &[],
+            22050,
+            &Tuning::default(),
+            &BreakConfig::default(),
+        )
+    }
+
     /// A siren from `low` to `high` and back over `seconds`, with register
     /// jumps of `jump` semitones at `up_at` going up and `down_at` coming down.
     fn siren(low: f64, high: f64, seconds: f64, up_at: f64, down_at: f64, jump: f64) -> Vec<Frame> {
@@ -405,13 +425,7 @@ mod tests {
                 } else {
                     smooth
                 };
-                Frame {
-                    time: t,
-                    f0_hz: Some(440.0 * 2f64.powf((midi - 69.0) / 12.0)),
-                    voiced: true,
-                    confidence: 0.9,
-                    level_db: -20.0,
-                }
+                frame(t, midi, -20.0)
             })
             .collect()
     }
@@ -420,13 +434,7 @@ mod tests {
     fn finds_both_breaks_of_a_siren_with_hysteresis() {
         // Up through G4 (67) and down through E4 (64), 2-semitone jumps.
         let frames = siren(55.0, 76.0, 4.0, 67.0, 64.0, 2.0);
-        let breaks = find_breaks(
-            &frames,
-            &[],
-            22050,
-            &Tuning::default(),
-            &BreakConfig::default(),
-        );
+        let breaks = breaks_in(&frames);
         assert_eq!(breaks.len(), 2, "{breaks:?}");
         let up = breaks
             .iter()
@@ -458,21 +466,9 @@ mod tests {
         let last_midi = 57.0 + 12.0 * 0.99;
         for (step, level_db) in [-30.0, -50.0, -70.0].into_iter().enumerate() {
             let midi = last_midi + 0.1 + 1.5 * step as f64;
-            frames.push(Frame {
-                time: 1.0 + 0.01 * step as f64,
-                f0_hz: Some(440.0 * 2f64.powf((midi - 69.0) / 12.0)),
-                voiced: true,
-                confidence: 0.6,
-                level_db,
-            });
+            frames.push(frame(1.0 + 0.01 * step as f64, midi, level_db));
         }
-        let breaks = find_breaks(
-            &frames,
-            &[],
-            22050,
-            &Tuning::default(),
-            &BreakConfig::default(),
-        );
+        let breaks = breaks_in(&frames);
         assert!(breaks.is_empty(), "{breaks:?}");
         // The same leap at full level, with the voice going on above it,
         // is a break.
@@ -481,21 +477,9 @@ mod tests {
         }
         for step in 3..10 {
             let midi = last_midi + 3.1 + 0.12 * f64::from(step - 2);
-            frames.push(Frame {
-                time: 1.0 + 0.01 * f64::from(step),
-                f0_hz: Some(440.0 * 2f64.powf((midi - 69.0) / 12.0)),
-                voiced: true,
-                confidence: 0.9,
-                level_db: -20.0,
-            });
+            frames.push(frame(1.0 + 0.01 * f64::from(step), midi, -20.0));
         }
-        let breaks = find_breaks(
-            &frames,
-            &[],
-            22050,
-            &Tuning::default(),
-            &BreakConfig::default(),
-        );
+        let breaks = breaks_in(&frames);
         assert_eq!(breaks.len(), 1, "{breaks:?}");
     }
 
@@ -529,13 +513,7 @@ mod tests {
     #[test]
     fn a_smooth_siren_has_no_break() {
         let frames = siren(50.0, 74.0, 4.0, 200.0, 200.0, 0.0);
-        let breaks = find_breaks(
-            &frames,
-            &[],
-            22050,
-            &Tuning::default(),
-            &BreakConfig::default(),
-        );
+        let breaks = breaks_in(&frames);
         assert!(breaks.is_empty(), "{breaks:?}");
     }
 }
