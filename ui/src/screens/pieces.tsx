@@ -1,0 +1,318 @@
+/**
+ * Pieces: import MIDI or MusicXML; per part the range, a tessitura histogram
+ * on a keyboard axis, hot spots by bar (each opens a notation excerpt), the
+ * cycle dose; and the part → section mapping, editable.
+ */
+import { Fragment } from "preact";
+import { useEffect, useState } from "preact/hooks";
+import { api, backend, errorText, type HotSpot, type PartAnalysis, type PieceAnalysis } from "../api";
+import { useShared } from "../app";
+import { HistogramOnKeyboard } from "../components/charts";
+import { ErrorMessage, Field, seconds, useLoad } from "../components/common";
+import { NotationExcerpt } from "../components/notation";
+import { excerptBars } from "../lib/bars";
+import { midiToName } from "../lib/pitch";
+
+const SECTION_CHOICES = ["S", "S1", "S2", "A", "A1", "A2", "T", "T1", "T2", "B", "B1", "B2"];
+
+function mappedSection(piece: PieceAnalysis, part: PartAnalysis): string {
+  const value = piece.mapping?.[part.name] ?? part.section;
+  if (Array.isArray(value)) return value.join(" + ");
+  return value ?? "";
+}
+
+const thousands = (value: number) => Math.round(value).toLocaleString("en-GB");
+
+export function PiecesScreen() {
+  const { refreshLibrary, parameter } = useShared();
+  const list = useLoad(() => api.piecesList(), []);
+  const [selected, setSelected] = useState<string | null>(parameter);
+  const [analysis, setAnalysis] = useState<PieceAnalysis | null>(null);
+  const [partName, setPartName] = useState<string | null>(null);
+  const [path, setPath] = useState("");
+  const [error, setError] = useState<string | null>(null);
+  const [busy, setBusy] = useState(false);
+  const [overrides, setOverrides] = useState<Record<string, string>>({});
+  const [excerpt, setExcerpt] = useState<{ xml: string; label: string } | null>(null);
+
+  useEffect(() => {
+    if (selected === null && list.data && list.data.length > 0) setSelected(list.data[0].title);
+  }, [list.data, selected]);
+
+  useEffect(() => {
+    if (selected === null) return;
+    setError(null);
+    setExcerpt(null);
+    setOverrides({});
+    api.pieceAnalysis(selected).then(
+      (a) => {
+        setAnalysis(a);
+        setPartName(a.parts[0]?.name ?? null);
+      },
+      (e) => setError(errorText(e)),
+    );
+  }, [selected]);
+
+  async function importPiece() {
+    setError(null);
+    setBusy(true);
+    try {
+      const imported = await api.pieceImport(path.trim());
+      setPath("");
+      list.reload();
+      refreshLibrary();
+      setAnalysis(imported);
+      setPartName(imported.parts[0]?.name ?? null);
+      setSelected(imported.title ?? imported.file);
+    } catch (e) {
+      setError(errorText(e));
+    } finally {
+      setBusy(false);
+    }
+  }
+
+  async function chooseFile() {
+    const picked = await (await backend()).pickFile("Score (MIDI or MusicXML)", ["mid", "midi", "musicxml", "xml", "mxl"]);
+    if (picked) setPath(picked);
+  }
+
+  async function saveMapping() {
+    if (!analysis || selected === null) return;
+    setError(null);
+    try {
+      setAnalysis(await api.pieceSetMapping(selected, overrides));
+      setOverrides({});
+    } catch (e) {
+      setError(errorText(e));
+    }
+  }
+
+  async function showExcerpt(part: PartAnalysis, spot: { bars: string }) {
+    if (selected === null) return;
+    const bars = excerptBars(spot.bars);
+    if (!bars) return;
+    setError(null);
+    try {
+      const xml = await api.notationExcerpt(selected, part.name, bars.first, bars.last);
+      setExcerpt({
+        xml,
+        label: `${part.name}, bar${bars.first === bars.last ? ` ${bars.first}` : `s ${bars.first}–${bars.last}`} of ${selected}`,
+      });
+    } catch (e) {
+      setError(errorText(e));
+    }
+  }
+
+  const part = analysis?.parts.find((p) => p.name === partName) ?? null;
+  const allParts = analysis ? analysis.parts.flatMap((p) => [p, ...(p.divisi ?? [])]) : [];
+
+  return (
+    <section data-testid="screen-pieces" aria-labelledby="pieces-title">
+      <div class="screen-head">
+        <h2 id="pieces-title">Pieces</h2>
+        <p>Where each part sits, measured over sung time (tempo, ties and repeats respected).</p>
+      </div>
+
+      <form
+        class="toolbar"
+        onSubmit={(e) => {
+          e.preventDefault();
+          void importPiece();
+        }}
+      >
+        <Field label="Score file (MIDI, MusicXML or .mxl)">
+          <input type="text" size={60} data-testid="piece-import-input" value={path} onInput={(e) => setPath((e.target as HTMLInputElement).value)} />
+        </Field>
+        <button type="button" onClick={chooseFile}>
+          Choose file…
+        </button>
+        <button type="submit" class="primary" data-testid="piece-import-submit" disabled={!path.trim() || busy}>
+          {busy ? "Importing…" : "Import"}
+        </button>
+      </form>
+      <ErrorMessage error={error ?? list.error} />
+
+      <div class="columns narrow-left">
+        <nav class="panel" aria-label="Pieces in the library">
+          <h3>Library</h3>
+          <ul data-testid="pieces-list" style={{ listStyle: "none", padding: 0, margin: 0 }}>
+            {(list.data ?? []).map((p) => (
+              <li key={p.title}>
+                <button
+                  type="button"
+                  data-testid={`piece-${p.title}`}
+                  class={selected === p.title ? "primary" : ""}
+                  aria-current={selected === p.title ? "true" : undefined}
+                  style={{ width: "100%", textAlign: "left", margin: "0.15rem 0" }}
+                  onClick={() => setSelected(p.title)}
+                >
+                  {p.title} <span class="small">({p.parts} parts)</span>
+                </button>
+              </li>
+            ))}
+          </ul>
+          {list.data?.length === 0 && <p class="muted">No pieces yet: import a score.</p>}
+        </nav>
+
+        <div>
+          {analysis && (
+            <div class="panel">
+              <h3>{analysis.title ?? analysis.file}</h3>
+              <p class="muted small">{analysis.file}</p>
+              {analysis.warnings.map((w) => (
+                <p key={w} class="tag warn">
+                  Warning: {w}
+                </p>
+              ))}
+              <div class="table-wrap">
+                <table data-testid="parts-table">
+                  <caption class="visually-hidden">Parts of {analysis.title}</caption>
+                  <thead>
+                    <tr>
+                      <th scope="col">Part</th>
+                      <th scope="col">Sung by</th>
+                      <th scope="col">Range</th>
+                      <th scope="col">Tessitura (mean ± 1 SD)</th>
+                      <th scope="col" class="num">
+                        Sung time
+                      </th>
+                      <th scope="col">Hot spots (bars)</th>
+                      <th scope="col" class="num">
+                        Cycle dose
+                      </th>
+                    </tr>
+                  </thead>
+                  <tbody>
+                    {allParts.map((p) => {
+                      const isDivisi = !analysis.parts.includes(p);
+                      return (
+                        <tr key={p.name} class={p.name === partName ? "selected" : ""}>
+                          <th scope="row">
+                            <button type="button" class="link" aria-pressed={p.name === partName} onClick={() => setPartName(p.name)}>
+                              {isDivisi ? `↳ ${p.name}` : p.name}
+                            </button>
+                            {p.kind !== "voice" && <span class="tag">accompaniment</span>}
+                          </th>
+                          <td>
+                            {isDivisi ? (
+                              "divisi"
+                            ) : (
+                              <select
+                                aria-label={`Section that sings ${p.name}`}
+                                value={overrides[p.name] ?? mappedSection(analysis, p)}
+                                onChange={(e) => setOverrides({ ...overrides, [p.name]: (e.target as HTMLSelectElement).value })}
+                              >
+                                <option value="">—</option>
+                                {!SECTION_CHOICES.includes(overrides[p.name] ?? mappedSection(analysis, p)) && mappedSection(analysis, p) && (
+                                  <option>{mappedSection(analysis, p)}</option>
+                                )}
+                                {SECTION_CHOICES.map((s) => (
+                                  <option key={s}>{s}</option>
+                                ))}
+                              </select>
+                            )}
+                          </td>
+                          <td>
+                            {p.lowest}–{p.highest}
+                          </td>
+                          <td>
+                            {midiToName(p.mean_midi)} ({midiToName(p.mean_midi - p.sd_semitones)}–{midiToName(p.mean_midi + p.sd_semitones)})
+                          </td>
+                          <td class="num">{seconds(p.sung_seconds)}</td>
+                          <td>
+                            <HotSpotButtons part={p} onShow={showExcerpt} />
+                          </td>
+                          <td class="num">{thousands(p.cycle_dose)}</td>
+                        </tr>
+                      );
+                    })}
+                  </tbody>
+                </table>
+              </div>
+              <div class="row" style={{ marginTop: "0.6rem" }}>
+                <button type="button" disabled={Object.keys(overrides).length === 0} onClick={saveMapping}>
+                  Save section mapping
+                </button>
+                <span class="small muted">
+                  Cycle dose: vocal-fold vibration cycles over the part, Σ f0 × duration (Titze, Švec &amp; Popolo 2003).
+                </span>
+              </div>
+            </div>
+          )}
+
+          {excerpt && (
+            <div class="panel" aria-live="polite">
+              <div class="row" style={{ justifyContent: "space-between" }}>
+                <h3>Notation excerpt</h3>
+                <button type="button" onClick={() => setExcerpt(null)}>
+                  Close
+                </button>
+              </div>
+              <NotationExcerpt musicXml={excerpt.xml} label={excerpt.label} />
+            </div>
+          )}
+
+          {part && (
+            <div class="panel">
+              <h3>{part.name}: where the time is spent</h3>
+              <HistogramOnKeyboard title={part.name} histogram={part.histogram_seconds} lowest={part.lowest_midi} highest={part.highest_midi} />
+              <dl class="facts">
+                <dt>Range</dt>
+                <dd>
+                  {part.lowest}–{part.highest}
+                </dd>
+                <dt>Middle half of sung time</dt>
+                <dd>
+                  {part.percentiles_midi["25"] !== undefined && part.percentiles_midi["75"] !== undefined
+                    ? `${midiToName(part.percentiles_midi["25"])}–${midiToName(part.percentiles_midi["75"])} (25th–75th percentile)`
+                    : "—"}
+                </dd>
+                <dt>Longest note</dt>
+                <dd>
+                  {part.longest_note.name}, {part.longest_note.seconds.toFixed(1)} s in bar {part.longest_note.bars}
+                </dd>
+                <dt>Time dose</dt>
+                <dd>{seconds(part.time_dose_seconds)} of singing</dd>
+                <dt>Cycle dose</dt>
+                <dd>{thousands(part.cycle_dose)} cycles</dd>
+              </dl>
+              <h4>Hot spots</h4>
+              {part.hot_spots.length === 0 ? (
+                <p class="muted">None.</p>
+              ) : (
+                <ul>
+                  {part.hot_spots.map((spot, i) => (
+                    <li key={i}>
+                      <span class="tag">{spot.kind === "high" ? "high" : "low"}</span> bars{" "}
+                      <button type="button" class="link" onClick={() => showExcerpt(part, spot)} aria-label={`Show bars ${spot.bars} of ${part.name} in notation`}>
+                        {spot.bars}
+                      </button>{" "}
+                      around {midiToName(spot.mean_midi)}, {spot.start_seconds.toFixed(0)}–{spot.end_seconds.toFixed(0)} s
+                    </li>
+                  ))}
+                </ul>
+              )}
+            </div>
+          )}
+        </div>
+      </div>
+    </section>
+  );
+}
+
+function HotSpotButtons({ part, onShow }: { part: PartAnalysis; onShow: (part: PartAnalysis, spot: HotSpot) => void }) {
+  if (part.hot_spots.length === 0) return <span class="muted">—</span>;
+  return (
+    <>
+      {part.hot_spots.map((spot, i) => (
+        <Fragment key={i}>
+          {i > 0 && " "}
+          <button type="button" class="link" onClick={() => onShow(part, spot)} aria-label={`${spot.kind} spot, bars ${spot.bars} of ${part.name}: show the notation`}>
+            {spot.bars}
+          </button>
+          <span class="small"> ({spot.kind === "high" ? "high" : "low"})</span>
+        </Fragment>
+      ))}
+    </>
+  );
+}
