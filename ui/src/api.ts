@@ -172,13 +172,20 @@ export interface PartAnalysis {
   section?: string | string[] | null;
 }
 
+/** `ambit parts --json` of one score plus the section mapping the app keeps with it. */
 export interface PieceAnalysis {
   file: string;
   title: string | null;
   parts: PartAnalysis[];
   warnings: string[];
-  /** Part name → section, when the app adds the mapping. */
+  /** The layout the parts are mapped to (e.g. "SATB"). */
+  layout?: string;
+  /** The director's choices: part → section (`null` = not sung by the choir). */
+  overrides?: Record<string, string | null>;
+  /** Part name → the sections that sing it (empty when the mapping failed). */
   mapping?: Record<string, string | string[]>;
+  /** Why the parts could not be mapped to the layout, when they could not. */
+  mappingError?: string | null;
 }
 
 export interface PieceSummary {
@@ -193,17 +200,26 @@ export interface PieceSummary {
 export interface FitCell {
   fit: number;
   outsideShare: number;
-  outsideSeconds: number;
+  /** Per line; `null` over a programme of sections. */
+  outsideSeconds: number | null;
   severity: number;
   beyondRangeSeconds: number;
-  reserves: { upper?: number | null; lower?: number | null } | [number | null, number | null] | null;
-  worst: { bars: string; seconds: number }[];
+  sungSeconds?: number;
+  /** Semitones (Herbst et al. 2012): singer's top − line's top; line's bottom − singer's bottom. */
+  reserves: { upper: number | null; lower: number | null };
+  worst: { piece?: string; line?: string; bars: string; seconds: number; side?: string }[];
 }
 
 export interface FitMatrix {
   rows: string[];
   columns: string[];
+  /** `null` where the pair is not allowed or the singer has no such line. */
   cells: (FitCell | null)[][];
+  /** Why a `null` cell is not allowed, by "singer / column". */
+  not_allowed?: Record<string, string>;
+  /** Singers with no range yet, left out. */
+  left_out?: string[];
+  cautions?: string[];
 }
 
 export interface PlaceResult {
@@ -218,8 +234,14 @@ export interface PlaceResult {
 
 export interface PlaceMove {
   objectiveDelta: number;
-  singer: { before: number; after: number };
-  sections: { section: string; countBefore: number; countAfter: number; meanBefore: number; meanAfter: number }[];
+  objectiveAfter?: number;
+  singer: { name?: string; from?: string; to?: string; before: number; after: number };
+  sections: { section: string; countBefore: number; countAfter: number; meanBefore: number | null; meanAfter: number | null }[];
+  atRiskAfter?: boolean;
+  /** Constraints the new seating breaks (empty = still valid). */
+  violations?: unknown[];
+  /** The whole placement after the move, as `ambit place --json`. */
+  placement?: PlaceResult;
 }
 
 export interface PlaceConstraints {
@@ -231,10 +253,12 @@ export interface PlaceConstraints {
 }
 
 export interface ScenarioSummary {
+  id?: number;
   name: string;
   savedAt: string;
-  notes: string;
-  objective: number;
+  notes: string | null;
+  objective: number | null;
+  result?: unknown;
 }
 
 export interface TransposeKey {
@@ -409,8 +433,9 @@ export const api = {
   piecesList: () => call<PieceSummary[]>("pieces_list"),
   pieceImport: (path: string) => call<PieceAnalysis>("piece_import", { path }),
   pieceAnalysis: (title: string) => call<PieceAnalysis>("piece_analysis", { title }),
-  pieceSetMapping: (title: string, overrides: Record<string, string>) =>
-    call<PieceAnalysis>("piece_set_mapping", { title, overrides }),
+  pieceAnalysisIn: (title: string, layout: string) => call<PieceAnalysis>("piece_analysis", { title, layout }),
+  pieceSetMapping: (title: string, overrides: Record<string, string | null>, layout?: string) =>
+    call<PieceAnalysis>("piece_set_mapping", { title, overrides, layout }),
   notationExcerpt: (title: string, part: string, firstBar: number, lastBar: number) =>
     call<string>("notation_excerpt", { title, part, firstBar, lastBar }),
   // fit, placement, transposition
@@ -418,8 +443,8 @@ export const api = {
     call<FitMatrix>("fit_matrix", { pieces, layout, by }),
   placeSolve: (constraints: PlaceConstraints) => call<JobId>("place_solve", { ...constraints }),
   placeMove: (name: string, section: string) => call<PlaceMove>("place_move", { name, section }),
-  scenarioSave: (name: string, notes: string, result: unknown) =>
-    call<number>("scenario_save", { name, notes, result }),
+  scenarioSave: (name: string, notes: string, result: unknown, constraints?: unknown) =>
+    call<number>("scenario_save", { name, notes, result, constraints }),
   scenariosList: () => call<ScenarioSummary[]>("scenarios_list"),
   transposeAdvice: (title: string) => call<TransposeAdvice>("transpose_advice", { title }),
   cautions: () => call<string[]>("cautions"),

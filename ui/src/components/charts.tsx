@@ -137,12 +137,22 @@ export function HistogramOnKeyboard({
   histogram,
   lowest,
   highest,
+  axisLow = lowest,
+  axisHigh = highest,
   width = 640,
   title,
+  lowestName = midiToName(lowest),
+  highestName = midiToName(highest),
 }: {
   histogram: Record<string, number>;
   lowest: number;
   highest: number;
+  /** The engine's names for the ends, spelled in the piece's key. */
+  lowestName?: string;
+  highestName?: string;
+  /** The axis' ends: the whole piece's, so that its parts line up. */
+  axisLow?: number;
+  axisHigh?: number;
   width?: number;
   title: string;
 }) {
@@ -151,15 +161,18 @@ export function HistogramOnKeyboard({
     .filter(([midi, value]) => Number.isFinite(midi) && Number.isFinite(value));
   const max = Math.max(1e-9, ...entries.map(([, v]) => v));
   const left = 46;
-  const axis = keyboardAxis(lowest, highest, width - left - 6, left);
+  const axis = keyboardAxis(Math.min(axisLow, lowest), Math.max(axisHigh, highest), width - left - 6, left);
   const plotTop = 12;
   const plotHeight = 120;
-  const keysY = plotTop + plotHeight + 4;
+  const rangeY = plotTop + plotHeight + 16;
+  const keysY = rangeY + 8;
   const height = keysY + 36 + FONT + 6;
   const ticks = niceTicks(max);
   const y = (value: number) => plotTop + plotHeight - (value / ticks[ticks.length - 1]) * plotHeight;
   const peak = entries.reduce((best, e) => (e[1] > best[1] ? e : best), entries[0] ?? [0, 0]);
-  const description = `${title}: seconds sung on each note from ${midiToName(lowest)} to ${midiToName(highest)}; most time on ${midiToName(peak[0])} (${peak[1].toFixed(1)} s).`;
+  const description = `${title}: seconds sung on each note from ${lowestName} to ${highestName}; most time on ${midiToName(peak[0])} (${peak[1].toFixed(1)} s).`;
+  const x0 = keyLeft(axis, lowest);
+  const x1 = keyLeft(axis, highest + 1);
   return (
     <svg class="chart" viewBox={`0 0 ${width} ${height}`} role="img" aria-label={description}>
       {ticks.map((tick) => (
@@ -170,19 +183,23 @@ export function HistogramOnKeyboard({
           </text>
         </g>
       ))}
-      <text x={4} y={plotTop + plotHeight / 2} font-size={FONT - 1} fill={theme.muted} transform={`rotate(-90 10 ${plotTop + plotHeight / 2})`} text-anchor="middle">
-        seconds
+      <text x={12} y={plotTop + plotHeight / 2} font-size={FONT - 1} fill={theme.muted} transform={`rotate(-90 12 ${plotTop + plotHeight / 2})`} text-anchor="middle">
+        seconds sung
       </text>
       {entries.map(([midi, value]) => (
         <rect key={midi} x={keyLeft(axis, midi) + 1} width={Math.max(1, axis.step - 2)} y={y(value)} height={plotTop + plotHeight - y(value)} fill={theme.accent}>
           <title>{`${midiToName(midi)}: ${value.toFixed(1)} s`}</title>
         </rect>
       ))}
-      {[lowest, highest].map((midi, i) => (
-        <text key={i} x={xOfMidi(axis, midi)} y={keysY - 6 - (i === 1 && highest - lowest < 3 ? 12 : 0)} font-size={FONT - 1} text-anchor="middle" fill={theme.text} font-weight={600}>
-          {i === 0 ? "▾" : "▾"}
-        </text>
-      ))}
+      <line x1={x0} x2={x1} y1={rangeY} y2={rangeY} stroke={theme.text} stroke-width={1.5} />
+      <line x1={x0} x2={x0} y1={rangeY - 4} y2={rangeY + 4} stroke={theme.text} stroke-width={1.5} />
+      <line x1={x1} x2={x1} y1={rangeY - 4} y2={rangeY + 4} stroke={theme.text} stroke-width={1.5} />
+      <text x={x0 - 4} y={rangeY + 4} font-size={FONT - 1} text-anchor="end" fill={theme.text} font-weight={600}>
+        {lowestName}
+      </text>
+      <text x={x1 + 4} y={rangeY + 4} font-size={FONT - 1} fill={theme.text} font-weight={600}>
+        {highestName}
+      </text>
       <KeyboardStrip axis={axis} y={keysY} height={36} />
     </svg>
   );

@@ -61,8 +61,17 @@ export function useLoad<T>(load: () => Promise<T>, deps: unknown[]) {
 export function Field({ label, children, inline }: { label: string; children: ComponentChildren; inline?: boolean }) {
   return (
     <label class={inline ? "field inline" : "field"}>
-      <span>{label}</span>
-      {children}
+      {inline ? (
+        <>
+          {children}
+          <span>{label}</span>
+        </>
+      ) : (
+        <>
+          <span>{label}</span>
+          {children}
+        </>
+      )}
     </label>
   );
 }

@@ -158,7 +158,8 @@ const state = {
   } as LibraryInfo,
   singers: Array.from({ length: 16 }, (_, i) => fakeSinger(i)),
   pieces: (sampleParts as unknown as PieceAnalysis[]).map((piece) => ({ ...piece })),
-  mapping: {} as Record<string, Record<string, string>>,
+  mapping: {} as Record<string, Record<string, string | null>>,
+  layouts: {} as Record<string, string>,
   scenarios: [
     { name: "Autumn concert, first try (fake)", savedAt: "2026-11-20T19:02:00Z", notes: "invented", objective: 1234.5 },
   ] as ScenarioSummary[],
@@ -181,15 +182,18 @@ function singerByName(name: string): SingerRow {
   return singer;
 }
 
-function piece(title: string): PieceAnalysis {
+function piece(title: string, layout?: string): PieceAnalysis {
   const found = state.pieces.find((p) => p.title === title);
   if (!found) throw `no piece titled "${title}" in this library`;
-  const mapping = state.mapping[title] ?? {};
-  const defaults = ["S", "A", "T", "B"];
-  return {
-    ...found,
-    parts: found.parts.map((part, i) => ({ ...part, section: mapping[part.name] ?? defaults[i % 4] })),
-  };
+  const overrides = state.mapping[title] ?? {};
+  const chosenLayout = layout ?? state.layouts[title] ?? "SATB";
+  const sections = layoutSections(chosenLayout);
+  const mapping: Record<string, string[]> = {};
+  found.parts.forEach((part, i) => {
+    const override = overrides[part.name];
+    mapping[part.name] = override === null ? [] : [override ?? sections[i % sections.length]];
+  });
+  return { ...found, layout: chosenLayout, overrides, mapping, mappingError: null };
 }
 
 function fitCell(singer: string, column: string): FitCell {
@@ -245,7 +249,7 @@ function startJob(work: () => unknown, steps: string[]): number {
     }
     await delay(200);
     try {
-      emit("job-done", { job, result: work() });
+      emit("job-done", { job, result: structuredClone(work()) });
     } catch (error) {
       emit("job-done", { job, error: String(error) });
     }
@@ -253,7 +257,13 @@ function startJob(work: () => unknown, steps: string[]): number {
   return job;
 }
 
+/** Answers like IPC does: a copy, never a shared object. */
 async function invoke(command: string, args: Record<string, any> = {}): Promise<any> {
+  const answer = await answerTo(command, structuredClone(args));
+  return answer === undefined ? null : structuredClone(answer);
+}
+
+async function answerTo(command: string, args: Record<string, any>): Promise<any> {
   await delay(60);
   state.info.singers = state.singers.filter((s) => !s.archived).length;
   state.info.archived = state.singers.filter((s) => s.archived).length;
@@ -361,9 +371,10 @@ async function invoke(command: string, args: Record<string, any> = {}): Promise<
       return piece(copy.title!);
     }
     case "piece_analysis":
-      return piece(args.title);
+      return piece(args.title, args.layout);
     case "piece_set_mapping":
-      state.mapping[args.title] = { ...(state.mapping[args.title] ?? {}), ...args.overrides };
+      state.mapping[args.title] = { ...args.overrides };
+      if (args.layout) state.layouts[args.title] = args.layout;
       return piece(args.title);
     case "notation_excerpt":
       return FAKE_EXCERPT;

@@ -91,6 +91,9 @@ export function FitScreen() {
         </fieldset>
       </div>
       <ErrorMessage error={error ?? pieces.error} />
+      {matrix?.left_out && matrix.left_out.length > 0 && (
+        <p class="notice">Left out (no range yet): {matrix.left_out.join(", ")}.</p>
+      )}
 
       {matrix && (
         <div class="columns wide-left">
@@ -115,7 +118,14 @@ export function FitScreen() {
                       <th scope="row">{row}</th>
                       {matrix.columns.map((column, c) => {
                         const value = matrix.cells[r]?.[c];
-                        if (!value) return <td key={column}>—</td>;
+                        if (!value) {
+                          const why = matrix.not_allowed?.[`${row} / ${column}`];
+                          return (
+                            <td key={column} class="empty-cell" title={why ?? "no figure"}>
+                              —{why && <span class="visually-hidden">: {why}</span>}
+                            </td>
+                          );
+                        }
                         const colours = fitCellColours(value.fit);
                         const flag = value.beyondRangeSeconds > 0;
                         return (
@@ -146,7 +156,7 @@ export function FitScreen() {
             ) : (
               <div class="panel muted">Choose a cell for its breakdown.</div>
             )}
-            <Cautions />
+            <Cautions items={matrix.cautions} />
           </div>
         </div>
       )}
@@ -176,7 +186,7 @@ function Breakdown({ singer, column, cell }: { singer: string; column: string; c
       <dl class="facts">
         <dt>Outside the comfort zone</dt>
         <dd>
-          {percent(cell.outsideShare)} of sung time ({seconds(cell.outsideSeconds)})
+          {percent(cell.outsideShare)} of sung time{cell.outsideSeconds !== null ? ` (${seconds(cell.outsideSeconds)})` : ""}
         </dd>
         <dt>Severity</dt>
         <dd>{cell.severity.toFixed(2)} semitones beyond comfort, on average over sung time</dd>
@@ -194,7 +204,7 @@ function Breakdown({ singer, column, cell }: { singer: string; column: string; c
         <ul>
           {cell.worst.map((w, i) => (
             <li key={i}>
-              bars {w.bars}: {seconds(w.seconds)} outside
+              {w.piece && w.line ? `${w.piece}, ${w.line}: ` : ""}bars {w.bars}: {seconds(w.seconds)} {w.side === "above" ? "above" : w.side === "below" ? "below" : "outside"} the comfort zone
             </li>
           ))}
         </ul>

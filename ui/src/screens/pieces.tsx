@@ -11,14 +11,23 @@ import { HistogramOnKeyboard } from "../components/charts";
 import { ErrorMessage, Field, seconds, useLoad } from "../components/common";
 import { NotationExcerpt } from "../components/notation";
 import { excerptBars } from "../lib/bars";
+import { COMMON_LAYOUTS, layoutSections } from "../lib/layouts";
 import { midiToName } from "../lib/pitch";
 
-const SECTION_CHOICES = ["S", "S1", "S2", "A", "A1", "A2", "T", "T1", "T2", "B", "B1", "B2"];
+const AUTO = "__auto";
+const NOT_SUNG = "__none";
 
+/** The sections that sing a part under the current mapping, in words. */
 function mappedSection(piece: PieceAnalysis, part: PartAnalysis): string {
   const value = piece.mapping?.[part.name] ?? part.section;
-  if (Array.isArray(value)) return value.join(" + ");
-  return value ?? "";
+  if (Array.isArray(value)) return value.length ? value.join(" + ") : "not sung";
+  return value ?? "—";
+}
+
+/** The director's stored choice for a part as a select value. */
+function storedChoice(piece: PieceAnalysis, part: string): string {
+  if (!piece.overrides || !(part in piece.overrides)) return AUTO;
+  return piece.overrides[part] ?? NOT_SUNG;
 }
 
 const thousands = (value: number) => Math.round(value).toLocaleString("en-GB");
@@ -33,6 +42,7 @@ export function PiecesScreen() {
   const [error, setError] = useState<string | null>(null);
   const [busy, setBusy] = useState(false);
   const [overrides, setOverrides] = useState<Record<string, string>>({});
+  const [mappingChanged, setMappingChanged] = useState(false);
   const [excerpt, setExcerpt] = useState<{ xml: string; label: string } | null>(null);
 
   useEffect(() => {
@@ -44,6 +54,7 @@ export function PiecesScreen() {
     setError(null);
     setExcerpt(null);
     setOverrides({});
+    setMappingChanged(false);
     api.pieceAnalysis(selected).then(
       (a) => {
         setAnalysis(a);
@@ -79,9 +90,28 @@ export function PiecesScreen() {
   async function saveMapping() {
     if (!analysis || selected === null) return;
     setError(null);
+    const choices: Record<string, string | null> = {};
+    for (const p of analysis.parts) {
+      const value = overrides[p.name] ?? storedChoice(analysis, p.name);
+      if (value === NOT_SUNG) choices[p.name] = null;
+      else if (value !== AUTO) choices[p.name] = value;
+    }
     try {
-      setAnalysis(await api.pieceSetMapping(selected, overrides));
+      setAnalysis(await api.pieceSetMapping(selected, choices, analysis.layout));
       setOverrides({});
+      setMappingChanged(false);
+    } catch (e) {
+      setError(errorText(e));
+    }
+  }
+
+  async function changeLayout(layout: string) {
+    if (selected === null) return;
+    setError(null);
+    try {
+      setAnalysis(await api.pieceAnalysisIn(selected, layout));
+      setOverrides({});
+      setMappingChanged(true);
     } catch (e) {
       setError(errorText(e));
     }
@@ -199,15 +229,18 @@ export function PiecesScreen() {
                             ) : (
                               <select
                                 aria-label={`Section that sings ${p.name}`}
-                                value={overrides[p.name] ?? mappedSection(analysis, p)}
-                                onChange={(e) => setOverrides({ ...overrides, [p.name]: (e.target as HTMLSelectElement).value })}
+                                value={overrides[p.name] ?? storedChoice(analysis, p.name)}
+                                onChange={(e) => {
+                                  setOverrides({ ...overrides, [p.name]: (e.target as HTMLSelectElement).value });
+                                  setMappingChanged(true);
+                                }}
                               >
-                                <option value="">—</option>
-                                {!SECTION_CHOICES.includes(overrides[p.name] ?? mappedSection(analysis, p)) && mappedSection(analysis, p) && (
-                                  <option>{mappedSection(analysis, p)}</option>
-                                )}
-                                {SECTION_CHOICES.map((s) => (
-                                  <option key={s}>{s}</option>
+                                <option value={AUTO}>auto: {mappedSection(analysis, p)}</option>
+                                <option value={NOT_SUNG}>not sung by the choir</option>
+                                {layoutSections(analysis.layout ?? "SATB").map((section) => (
+                                  <option key={section} value={section}>
+                                    {section}
+                                  </option>
                                 ))}
                               </select>
                             )}
@@ -229,8 +262,16 @@ export function PiecesScreen() {
                   </tbody>
                 </table>
               </div>
+              {analysis.mappingError && <p class="tag warn">The parts could not be mapped to {analysis.layout}: {analysis.mappingError}</p>}
               <div class="row" style={{ marginTop: "0.6rem" }}>
-                <button type="button" disabled={Object.keys(overrides).length === 0} onClick={saveMapping}>
+                <Field label="Layout for the mapping">
+                  <select value={analysis.layout ?? "SATB"} onChange={(e) => changeLayout((e.target as HTMLSelectElement).value)}>
+                    {[...new Set([analysis.layout ?? "SATB", ...COMMON_LAYOUTS])].map((l) => (
+                      <option key={l}>{l}</option>
+                    ))}
+                  </select>
+                </Field>
+                <button type="button" disabled={!mappingChanged} onClick={saveMapping}>
                   Save section mapping
                 </button>
                 <span class="small muted">
@@ -255,7 +296,17 @@ export function PiecesScreen() {
           {part && (
             <div class="panel">
               <h3>{part.name}: where the time is spent</h3>
-              <HistogramOnKeyboard title={part.name} histogram={part.histogram_seconds} lowest={part.lowest_midi} highest={part.highest_midi} />
+              <HistogramOnKeyboard
+                title={part.name}
+                histogram={part.histogram_seconds}
+                lowest={part.lowest_midi}
+                highest={part.highest_midi}
+                lowestName={part.lowest}
+                highestName={part.highest}
+                axisLow={Math.min(...allParts.map((p) => p.lowest_midi))}
+                axisHigh={Math.max(...allParts.map((p) => p.highest_midi))}
+              />
+              <p class="small muted">Bars: seconds sung on each note (tempo, ties and repeats counted); the bracket is the part's range. The axis spans the whole piece, so parts compare.</p>
               <dl class="facts">
                 <dt>Range</dt>
                 <dd>

@@ -89,13 +89,19 @@ export function PlacementScreen() {
     setError(null);
     try {
       const outcome = await api.placeMove(name, to);
+      const from = outcome.singer.from ?? current.section;
+      if (outcome.placement) {
+        setResult(outcome.placement);
+        setLastMove({ name, from, to, move: outcome });
+        return;
+      }
       const assignments = result.assignments.map((a) => (a.singer === name ? { ...a, section: to, fit: outcome.singer.after } : a));
       const sectionRows = result.sections.map((s) => {
         const changed = outcome.sections.find((c) => c.section === s.section);
-        return changed ? { ...s, count: changed.countAfter, mean_fit: changed.countAfter ? changed.meanAfter : null } : s;
+        return changed ? { ...s, count: changed.countAfter, mean_fit: changed.meanAfter } : s;
       });
       setResult({ ...result, assignments, sections: sectionRows, objective: result.objective + outcome.objectiveDelta });
-      setLastMove({ name, from: current.section, to, move: outcome });
+      setLastMove({ name, from, to, move: outcome });
     } catch (e) {
       setError(errorText(e));
     }
@@ -105,7 +111,7 @@ export function PlacementScreen() {
     if (!result || !scenarioName.trim()) return;
     setError(null);
     try {
-      await api.scenarioSave(scenarioName.trim(), scenarioNotes, result);
+      await api.scenarioSave(scenarioName.trim(), scenarioNotes, result, { pieces: chosen, layout, sizes, locks, exclusions });
       setNotice(`Scenario "${scenarioName.trim()}" saved.`);
       setScenarioName("");
       setScenarioNotes("");
@@ -362,7 +368,7 @@ export function PlacementScreen() {
                 <ul class="small" style={{ marginTop: "0.5rem" }}>
                   {(scenarios.data ?? []).map((s) => (
                     <li key={s.name + s.savedAt}>
-                      <strong>{s.name}</strong>, {s.savedAt.slice(0, 10)}, objective {s.objective.toFixed(1)}
+                      <strong>{s.name}</strong>, {s.savedAt.slice(0, 10)}, objective {s.objective === null ? "—" : s.objective.toFixed(1)}
                       {s.notes ? ` — ${s.notes}` : ""}
                     </li>
                   ))}
@@ -380,9 +386,11 @@ export function PlacementScreen() {
 function moveText({ name, from, to, move }: MoveReport): string {
   const delta = move.singer.after - move.singer.before;
   const sectionText = move.sections
-    .map((s) => `${s.section} ${s.countBefore}→${s.countAfter} singers, mean fit ${fitText(s.meanBefore)}→${s.countAfter ? fitText(s.meanAfter) : "—"}`)
+    .map((s) => `${s.section} ${s.countBefore}→${s.countAfter} singers, mean fit ${fitText(s.meanBefore)}→${fitText(s.meanAfter)}`)
     .join("; ");
-  return `Moved ${name} from ${from} to ${to}: their fit ${fitText(move.singer.before)} → ${fitText(move.singer.after)} (${signed(delta)}); whole placement ${signed(move.objectiveDelta)}. ${sectionText}.`;
+  const broken = move.violations && move.violations.length > 0 ? ` This breaks ${move.violations.length} constraint${move.violations.length === 1 ? "" : "s"}.` : "";
+  const risk = move.atRiskAfter ? ` ${name} is now worth a second look in ${to}.` : "";
+  return `Moved ${name} from ${from} to ${to}: their fit ${fitText(move.singer.before)} → ${fitText(move.singer.after)} (${signed(delta)}); whole placement ${signed(move.objectiveDelta)}. ${sectionText}.${broken}${risk}`;
 }
 
 function PlacementTable({ result, sections, onMove }: { result: PlaceResult; sections: string[]; onMove: (name: string, to: string) => void }) {
