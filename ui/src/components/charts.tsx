@@ -55,7 +55,7 @@ export function RangeOnKeyboard({
   comfort,
   reached,
   passaggi,
-  width = 720,
+  width = 860,
 }: {
   range: Span;
   comfort: Span;
@@ -80,7 +80,7 @@ export function RangeOnKeyboard({
     `Range ${range.low} to ${range.high}; comfort zone ${comfort.low} to ${comfort.high}` +
     (passaggi.length ? `; passaggi ${passaggi.map((p) => `${p.kind} ${p.name} (${p.source})`).join(", ")}` : "");
   return (
-    <svg class="chart" viewBox={`0 0 ${width} ${height}`} role="img" aria-label={description}>
+    <svg class="chart" style={{ maxWidth: `${width * 1.15}px` }} viewBox={`0 0 ${width} ${height}`} role="img" aria-label={description}>
       {rows.map((row, i) => {
         const y = top + i * rowHeight;
         const x0 = keyLeft(axis, Math.round(row.span.low_midi));
@@ -115,10 +115,11 @@ export function RangeOnKeyboard({
       </text>
       {passaggi.map((p, i) => {
         const x = xOfMidi(axis, p.midi);
+        const leftward = x > width * 0.62;
         return (
           <g key={p.kind}>
             <line x1={x} x2={x} y1={top} y2={keysY + 44} stroke={theme.passaggio} stroke-width={2} stroke-dasharray={p.source === "typical" ? "5 3" : undefined} />
-            <text x={x + 4} y={passaggioTop + 14 + i * 13} font-size={FONT - 1} fill={theme.passaggio} font-weight={600}>
+            <text x={leftward ? x - 4 : x + 4} text-anchor={leftward ? "end" : "start"} y={passaggioTop + 14 + i * 13} font-size={FONT - 1} fill={theme.passaggio} font-weight={600}>
               {p.kind} {p.name} {p.source === "typical" ? "(typical, not measured)" : "(measured)"}
             </text>
           </g>
@@ -174,7 +175,7 @@ export function HistogramOnKeyboard({
   const x0 = keyLeft(axis, lowest);
   const x1 = keyLeft(axis, highest + 1);
   return (
-    <svg class="chart" viewBox={`0 0 ${width} ${height}`} role="img" aria-label={description}>
+    <svg class="chart" style={{ maxWidth: `${width * 1.3}px` }} viewBox={`0 0 ${width} ${height}`} role="img" aria-label={description}>
       {ticks.map((tick) => (
         <g key={tick}>
           <line x1={left} x2={width - 6} y1={y(tick)} y2={y(tick)} stroke="#d5d8dc" />
@@ -243,7 +244,12 @@ export function HistoryChart({ entries, width = 900 }: { entries: HistoryEntry[]
   const description = sorted
     .map((e) => `${e.date}: range ${e.profile.range.low}–${e.profile.range.high}, comfort ${e.profile.comfort.low}–${e.profile.comfort.high}`)
     .join("; ");
-  const line = (pick: (e: HistoryEntry) => number) => sorted.map((e, i) => `${i ? "L" : "M"}${x(times[i])},${y(pick(e))}`).join(" ");
+  // Trend lines run between the bars, leaving room for the names written beside them.
+  const line = (pick: (e: HistoryEntry) => number) =>
+    sorted
+      .slice(1)
+      .map((e, i) => `M${x(times[i]) + 16},${y(pick(sorted[i]))} L${x(times[i + 1]) - 48},${y(pick(e))}`)
+      .join(" ");
   return (
     <svg class="chart" viewBox={`0 0 ${width} ${height}`} role="img" aria-label={`Range and comfort zone by date. ${description}`}>
       {keyRows.map((m) => (
@@ -322,7 +328,7 @@ export function PitchTrace({ frames, seconds = 8, width = 720 }: { frames: Pitch
       {rows.map((m) => (
         <g key={m}>
           <line x1={left} x2={width} y1={y(m)} y2={y(m)} stroke={isBlackKey(m) ? "#eceef0" : "#d5d8dc"} />
-          {!isBlackKey(m) && (
+          {[0, 2, 4, 7, 9].includes(pitchClass(m)) && (
             <text x={left - 4} y={y(m) + 4} font-size={pitchClass(m) === 0 ? FONT : FONT - 2} font-weight={pitchClass(m) === 0 ? 700 : 400} text-anchor="end" fill={theme.keyLabel}>
               {midiToName(m)}
             </text>

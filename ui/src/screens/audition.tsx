@@ -273,8 +273,14 @@ export function AuditionScreen() {
 }
 
 function ResultCard({ profile, onSave, saved, onHistory }: { profile: AnalysedProfile; onSave: () => void; saved: string | null; onHistory: () => void }) {
+  const card = useRef<HTMLElement>(null);
+  useEffect(() => {
+    // Bring the new result into view and put keyboard focus on it.
+    card.current?.scrollIntoView({ block: "start" });
+    card.current?.focus();
+  }, [profile]);
   return (
-    <article class="panel result-card" data-testid="result-card" aria-labelledby="result-title">
+    <article class="panel result-card" data-testid="result-card" aria-labelledby="result-title" tabIndex={-1} ref={card}>
       <h3 id="result-title">Result for {profile.singer}</h3>
       <div class="columns">
         <div>
