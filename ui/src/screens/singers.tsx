@@ -6,7 +6,7 @@
 import { useMemo, useState } from "preact/hooks";
 import { api, backend, errorText, type ImportPreview, type SingerRow, type TypedSinger } from "../api";
 import { useShared } from "../app";
-import { ErrorMessage, Field, useLoad } from "../components/common";
+import { Cautions, ErrorMessage, Field, useLoad } from "../components/common";
 import { Modal } from "../components/modal";
 
 const EMPTY_TYPED: TypedSinger = {
@@ -304,6 +304,7 @@ export function SingersScreen() {
         </table>
         {!roster.loading && shown.length === 0 && <p class="muted">No singers match.</p>}
       </div>
+      <Cautions />
 
       {deleting && (
         <Modal title={`Delete ${deleting.name}?`} onClose={() => setDeleting(null)}>
