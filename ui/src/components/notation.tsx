@@ -3,14 +3,18 @@
  * command) engraved by OpenSheetMusicDisplay, loaded on first use so the rest
  * of the app starts without it.
  */
-import { useEffect, useRef, useState } from "preact/hooks";
+import { useEffect, useMemo, useRef, useState } from "preact/hooks";
 import { errorText } from "../api";
-import { ErrorMessage } from "./common";
+import { excerptAsText } from "../lib/excerpt-text";
 
 export function NotationExcerpt({ musicXml, label }: { musicXml: string; label: string }) {
   const host = useRef<HTMLDivElement>(null);
   const [error, setError] = useState<string | null>(null);
   const [ready, setReady] = useState(false);
+  const bars = useMemo(() => {
+    const parsed = new DOMParser().parseFromString(musicXml, "application/xml");
+    return parsed.getElementsByTagName("parsererror").length > 0 ? [] : excerptAsText(parsed);
+  }, [musicXml]);
   useEffect(() => {
     let cancelled = false;
     setError(null);
@@ -48,8 +52,22 @@ export function NotationExcerpt({ musicXml, label }: { musicXml: string; label: 
     <figure style={{ margin: 0 }}>
       <div class="notation" ref={host} role="img" aria-label={label} />
       {!ready && !error && <p class="muted small">Engraving…</p>}
-      <ErrorMessage error={error} />
+      {error && (
+        <p class="error" role="alert">
+          {error}
+        </p>
+      )}
       <figcaption class="small muted">{label}</figcaption>
+      <details open={error !== null}>
+        <summary class="small">The notes as text</summary>
+        <ul class="small">
+          {bars.map((bar, i) => (
+            <li key={i}>
+              bar {bar.bar}: {bar.notes.join(", ") || "—"}
+            </li>
+          ))}
+        </ul>
+      </details>
     </figure>
   );
 }

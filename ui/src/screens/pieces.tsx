@@ -4,7 +4,7 @@
  * cycle dose; and the part → section mapping, editable.
  */
 import { Fragment } from "preact";
-import { useEffect, useState } from "preact/hooks";
+import { useEffect, useRef, useState } from "preact/hooks";
 import { api, backend, errorText, type HotSpot, type PartAnalysis, type PieceAnalysis } from "../api";
 import { useShared } from "../app";
 import { HistogramOnKeyboard } from "../components/charts";
@@ -49,26 +49,33 @@ export function PiecesScreen() {
     if (selected === null && list.data && list.data.length > 0) setSelected(list.data[0].title);
   }, [list.data, selected]);
 
+  // Only the latest request may fill the screen (an import may overtake a load).
+  const request = useRef(0);
+
   useEffect(() => {
     if (selected === null) return;
     setError(null);
     setExcerpt(null);
     setOverrides({});
     setMappingChanged(false);
+    const mine = ++request.current;
     api.pieceAnalysis(selected).then(
       (a) => {
+        if (mine !== request.current) return;
         setAnalysis(a);
         setPartName(a.parts[0]?.name ?? null);
       },
-      (e) => setError(errorText(e)),
+      (e) => mine === request.current && setError(errorText(e)),
     );
   }, [selected]);
 
   async function importPiece() {
     setError(null);
     setBusy(true);
+    const mine = ++request.current;
     try {
       const imported = await api.pieceImport(path.trim());
+      if (mine !== request.current) return;
       setPath("");
       list.reload();
       refreshLibrary();

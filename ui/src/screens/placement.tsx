@@ -261,7 +261,7 @@ export function PlacementScreen() {
           </ul>
         )}
         <div class="row" style={{ marginTop: "0.8rem" }}>
-          <button type="button" class="primary" data-testid="place-solve" disabled={job !== null || chosen.length === 0} onClick={solve}>
+          <button type="button" class="primary" data-testid="place-solve" disabled={job !== null} onClick={solve}>
             Suggest a placement
           </button>
           {job !== null && (

@@ -250,6 +250,7 @@ export function SingersScreen() {
         </form>
       )}
 
+      {roster.data !== null && (
       <div class="table-wrap">
         <table data-testid="roster-table">
           <caption class="visually-hidden">The roster</caption>
@@ -304,6 +305,8 @@ export function SingersScreen() {
         </table>
         {!roster.loading && shown.length === 0 && <p class="muted">No singers match.</p>}
       </div>
+      )}
+      {roster.data === null && roster.loading && <p class="muted">Loading the roster…</p>}
       <Cautions />
 
       {deleting && (
