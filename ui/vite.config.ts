@@ -8,6 +8,10 @@ export default defineConfig({
   base: "./",
   server: { port: 5173, strictPort: true },
   // OpenSheetMusicDisplay is one large chunk, loaded only when an excerpt is shown.
-  build: { chunkSizeWarningLimit: 1500 },
+  build: {
+    chunkSizeWarningLimit: 1500,
+    // Two pages: the app, and the notation renderer's frame (notation.html).
+    rollupOptions: { input: { main: "index.html", notation: "notation.html" } },
+  },
   test: { environment: "node", include: ["src/**/*.test.ts"] },
 });

@@ -1,57 +1,95 @@
 /**
  * A notation excerpt: the MusicXML of a few bars (from the `notation_excerpt`
- * command) engraved by OpenSheetMusicDisplay, loaded on first use so the rest
- * of the app starts without it.
+ * command) engraved by OpenSheetMusicDisplay, with the notes also as text.
+ *
+ * The engraver runs in its own frame (notation.html, see notation-frame.ts for
+ * why). Where the window's security policy does not allow that frame (a CSP
+ * `frame-ancestors 'none'`), it runs in this page instead; where that fails
+ * too, the text stays and the error says why.
  */
 import { useEffect, useMemo, useRef, useState } from "preact/hooks";
-import { errorText } from "../api";
 import { excerptAsText } from "../lib/excerpt-text";
 
 export function NotationExcerpt({ musicXml, label }: { musicXml: string; label: string }) {
-  const host = useRef<HTMLDivElement>(null);
+  const frame = useRef<HTMLIFrameElement>(null);
   const [error, setError] = useState<string | null>(null);
-  const [ready, setReady] = useState(false);
+  const [height, setHeight] = useState<number | null>(null);
+  const [inline, setInline] = useState(false);
+  const inlineHost = useRef<HTMLDivElement>(null);
   const bars = useMemo(() => {
     const parsed = new DOMParser().parseFromString(musicXml, "application/xml");
     return parsed.getElementsByTagName("parsererror").length > 0 ? [] : excerptAsText(parsed);
   }, [musicXml]);
+
   useEffect(() => {
-    let cancelled = false;
     setError(null);
-    setReady(false);
+    setHeight(null);
+    if (inline) return;
+    let answered = false;
+    const send = () =>
+      frame.current?.contentWindow?.postMessage({ musicXml, width: frame.current.clientWidth - 16 }, window.location.origin);
+    const onMessage = (event: MessageEvent) => {
+      if (event.origin !== window.location.origin || event.source !== frame.current?.contentWindow) return;
+      answered = true;
+      const data = event.data as { ready?: boolean; rendered?: boolean; height?: number; error?: string };
+      if (data.ready) send();
+      else if (data.rendered) setHeight(data.height ?? 160);
+      else if (data.rendered === false) setError(`The excerpt could not be engraved: ${data.error}`);
+    };
+    window.addEventListener("message", onMessage);
+    send(); // in case the frame was already loaded
+    // No word from the frame: it was not allowed to load; engrave here instead.
+    const timer = window.setTimeout(() => answered || setInline(true), 4000);
+    return () => {
+      window.removeEventListener("message", onMessage);
+      window.clearTimeout(timer);
+    };
+  }, [musicXml, inline]);
+
+  useEffect(() => {
+    if (!inline) return;
+    let cancelled = false;
     void (async () => {
       try {
         const { OpenSheetMusicDisplay } = await import("opensheetmusicdisplay");
-        if (cancelled || !host.current) return;
-        host.current.innerHTML = "";
-        const display = new OpenSheetMusicDisplay(host.current, {
+        if (cancelled || !inlineHost.current) return;
+        inlineHost.current.innerHTML = "";
+        const display = new OpenSheetMusicDisplay(inlineHost.current, {
           autoResize: false,
           backend: "svg",
           drawTitle: false,
-          drawSubtitle: false,
-          drawComposer: false,
-          drawLyricist: false,
           drawCredits: false,
           drawPartNames: true,
           drawMeasureNumbers: true,
         });
         await display.load(musicXml);
         if (cancelled) return;
-        display.zoom = 0.8;
+        display.zoom = 0.85;
         display.render();
-        setReady(true);
+        setHeight(inlineHost.current.scrollHeight);
       } catch (e) {
-        if (!cancelled) setError(`The excerpt could not be engraved: ${errorText(e)}`);
+        if (!cancelled) setError(`The excerpt could not be engraved: ${e instanceof Error ? e.message : String(e)}`);
       }
     })();
     return () => {
       cancelled = true;
     };
-  }, [musicXml]);
+  }, [musicXml, inline]);
+
   return (
     <figure style={{ margin: 0 }}>
-      <div class="notation" ref={host} role="img" aria-label={label} />
-      {!ready && !error && <p class="muted small">Engraving…</p>}
+      {inline ? (
+        <div class="notation" ref={inlineHost} role="img" aria-label={`Notation: ${label}`} />
+      ) : (
+        <iframe
+          ref={frame}
+          class="notation"
+          src="notation.html"
+          title={`Notation: ${label}`}
+          style={{ width: "100%", border: "none", height: `${height ?? 160}px` }}
+        />
+      )}
+      {height === null && !error && <p class="muted small">Engraving…</p>}
       {error && (
         <p class="error" role="alert">
           {error}
