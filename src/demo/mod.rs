@@ -8,6 +8,7 @@
 //! proof.
 
 pub mod choir;
+pub mod seed;
 
 use rayon::prelude::*;
 
@@ -205,18 +206,19 @@ pub fn synthesise_task(
     synthesize(&voice_of(singer), &task_segments(singer, task), &config)
 }
 
+/// The synthesis seed of the `index`-th task of an audition seeded `seed`.
+pub fn task_seed(seed: u64, index: usize) -> u64 {
+    seed.wrapping_mul(31).wrapping_add(index as u64)
+}
+
 /// Synthesises and tracks a whole audition (all five tasks) for one singer.
 pub fn audition(singer: &DemoSinger, seed: u64) -> Result<Vec<Recording>, String> {
     Task::ALL
         .iter()
         .enumerate()
         .map(|(index, &task)| {
-            let synthesis = synthesise_task(
-                singer,
-                task,
-                seed.wrapping_mul(31).wrapping_add(index as u64),
-            )
-            .map_err(|error| format!("{} ({}): {error}", singer.name, task.label()))?;
+            let synthesis = synthesise_task(singer, task, task_seed(seed, index))
+                .map_err(|error| format!("{} ({}): {error}", singer.name, task.label()))?;
             let track = track_samples(
                 &synthesis.samples,
                 synthesis.sample_rate,
@@ -242,6 +244,6 @@ pub fn choir_auditions() -> Vec<(&'static DemoSinger, Result<Vec<Recording>, Str
     DEMO_CHOIR
         .par_iter()
         .enumerate()
-        .map(|(index, singer)| (singer, audition(singer, 1000 + index as u64)))
+        .map(|(index, singer)| (singer, audition(singer, seed::audition_seed(index))))
         .collect()
 }
