@@ -50,6 +50,38 @@ export function FitScreen() {
     });
   }, [chosen.join("\u0000"), layout, by]);
 
+  // One tab stop for the whole grid; the arrow keys move between cells (WAI-ARIA grid practice).
+  const [focusCell, setFocusCell] = useState<[number, number]>([0, 0]);
+  function moveFocus(event: KeyboardEvent, r: number, c: number) {
+    if (!matrix) return;
+    const steps: Record<string, [number, number]> = { ArrowUp: [-1, 0], ArrowDown: [1, 0], ArrowLeft: [0, -1], ArrowRight: [0, 1] };
+    const step = steps[event.key];
+    if (!step) return;
+    event.preventDefault();
+    let [nr, nc] = [r + step[0], c + step[1]];
+    // Skip empty cells in the direction of travel.
+    while (nr >= 0 && nc >= 0 && nr < matrix.rows.length && nc < matrix.columns.length) {
+      const target = document.querySelector<HTMLElement>(`[data-cell="${nr},${nc}"]`);
+      if (target) {
+        target.focus();
+        return;
+      }
+      nr += step[0];
+      nc += step[1];
+    }
+  }
+
+  useEffect(() => {
+    if (!matrix) return;
+    for (let r = 0; r < matrix.rows.length; r++) {
+      const c = (matrix.cells[r] ?? []).findIndex((value) => value !== null);
+      if (c >= 0) {
+        setFocusCell([r, c]);
+        return;
+      }
+    }
+  }, [matrix]);
+
   const toggle = (title: string, on: boolean) => setChosen(on ? [...chosen, title] : chosen.filter((t) => t !== title));
   const selected = matrix && cell ? matrix.cells[cell[0]]?.[cell[1]] : null;
 
@@ -132,6 +164,10 @@ export function FitScreen() {
                           <td key={column}>
                             <button
                               type="button"
+                              data-cell={`${r},${c}`}
+                              tabIndex={r === focusCell[0] && c === focusCell[1] ? 0 : -1}
+                              onKeyDown={(event) => moveFocus(event, r, c)}
+                              onFocus={() => setFocusCell([r, c])}
                               style={{ background: colours.background, color: colours.text }}
                               aria-pressed={cell?.[0] === r && cell?.[1] === c}
                               aria-label={`${row}, ${column}: fit ${fitText(value.fit)}${flag ? ", sings beyond range" : ""}`}
@@ -148,7 +184,10 @@ export function FitScreen() {
                 </tbody>
               </table>
             </div>
-            <p class="small muted">"!" after a number: the part goes beyond the singer's range (a hard flag).</p>
+            <p class="small muted">
+              "!" after a number: the part goes beyond the singer's range (a hard flag). Keyboard: Tab into the grid, arrow keys to move, Enter for the
+              breakdown.
+            </p>
           </div>
           <div>
             {selected && cell ? (
