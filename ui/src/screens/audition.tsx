@@ -203,7 +203,7 @@ export function AuditionScreen() {
                     <div class="panel" style={{ marginTop: "0.6rem" }} aria-live="off">
                       <div class="row" style={{ alignItems: "baseline" }}>
                         <span class="live-note" aria-label="Current note">
-                          {lastMidi !== null ? midiToName(lastMidi) : "—"}
+                          {last?.note ?? (lastMidi !== null ? midiToName(lastMidi) : "—")}
                         </span>
                         <span class="muted">
                           {lastMidi !== null && last?.f0Hz

@@ -123,6 +123,7 @@ export function FitScreen() {
         </fieldset>
       </div>
       <ErrorMessage error={error ?? pieces.error} />
+      {pieces.data?.length === 0 && <p class="notice">No pieces in this library yet: import a score on the Pieces screen.</p>}
       {matrix?.left_out && matrix.left_out.length > 0 && (
         <p class="notice">Left out (no range yet): {matrix.left_out.join(", ")}.</p>
       )}

@@ -278,6 +278,8 @@ export function PlacementScreen() {
       </div>
 
       <ErrorMessage error={error ?? pieces.error} />
+      {pieces.data?.length === 0 && <p class="notice">No pieces in this library yet: import a score on the Pieces screen first.</p>}
+      {singers.data?.length === 0 && <p class="notice">No singers in this library yet: add them on the Singers screen, or audition them.</p>}
       {notice && (
         <p class="notice" role="status">
           {notice}
