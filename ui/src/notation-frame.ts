@@ -9,6 +9,10 @@
 import { OpenSheetMusicDisplay } from "opensheetmusicdisplay";
 
 const host = document.getElementById("score")!;
+// Styles set through the CSSOM, not an inline <style>: under the app's CSP an
+// inline block would get a nonce, and a nonce switches 'unsafe-inline' off.
+document.documentElement.style.background = "#fff";
+document.body.style.margin = "0";
 
 window.addEventListener("message", async (event: MessageEvent) => {
   if (event.origin !== window.location.origin || event.source !== window.parent) return;
