@@ -121,10 +121,15 @@ export function PlacementScreen() {
     }
   }
 
+  function seatingCsv(placed: PlaceResult): string {
+    const order = placed.layout.length ? placed.layout : sections;
+    const rows = [...placed.assignments].sort((a, b) => order.indexOf(a.section) - order.indexOf(b.section) || a.singer.localeCompare(b.singer));
+    return csvText([["section", "singer", "fit"], ...rows.map((a) => [a.section, a.singer, a.fit.toFixed(1)])]);
+  }
+
   function exportCsv() {
     if (!result) return;
-    const rows = [...result.assignments].sort((a, b) => sections.indexOf(a.section) - sections.indexOf(b.section) || a.singer.localeCompare(b.singer));
-    const text = csvText([["section", "singer", "fit"], ...rows.map((a) => [a.section, a.singer, a.fit.toFixed(1)])]);
+    const text = seatingCsv(result);
     const link = document.createElement("a");
     link.href = URL.createObjectURL(new Blob([text], { type: "text/csv;charset=utf-8" }));
     link.download = `seating-${layout}-${today()}.csv`;
@@ -312,6 +317,10 @@ export function PlacementScreen() {
                 </div>
               </div>
               <PlacementTable result={result} sections={result.layout.length ? result.layout : sections} onMove={move} />
+              <details class="no-print" style={{ marginTop: "0.6rem" }}>
+                <summary class="small">The seating list as CSV text (to copy)</summary>
+                <textarea readOnly rows={8} style={{ width: "100%", fontFamily: "monospace" }} aria-label="Seating list as CSV" value={seatingCsv(result)} />
+              </details>
             </div>
           </div>
           <div>
