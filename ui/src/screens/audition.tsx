@@ -45,6 +45,16 @@ export function AuditionScreen() {
   const [error, setError] = useState<string | null>(null);
   const [saved, setSaved] = useState<string | null>(null);
   const buffer = useRef<PitchFrame[]>([]);
+  const recordingNow = useRef<TaskName | null>(null);
+  recordingNow.current = recordingTask;
+
+  // Leaving the screen stops a running recording (the take is kept on disk by the app until saved).
+  useEffect(
+    () => () => {
+      if (recordingNow.current !== null) void api.recordingStop().catch(() => {});
+    },
+    [],
+  );
 
   // Live pitch: frames arrive every 10 ms; draw at most once per animation frame.
   useEffect(() => {
