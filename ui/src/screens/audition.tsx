@@ -48,7 +48,7 @@ export function AuditionScreen() {
   const recordingNow = useRef<TaskName | null>(null);
   recordingNow.current = recordingTask;
 
-  // Leaving the screen stops a running recording (the take is kept on disk by the app until saved).
+  // Leaving the screen stops a running recording, so the microphone is not left open.
   useEffect(
     () => () => {
       if (recordingNow.current !== null) void api.recordingStop().catch(() => {});
