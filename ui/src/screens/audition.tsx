@@ -156,7 +156,7 @@ export function AuditionScreen() {
         <p>Five short tasks, about two minutes of singing in all. Record each here, or give a recording made elsewhere.</p>
       </div>
 
-      <div class="columns wide-left">
+      <div class="columns wide-left no-print">
         <div>
           <div class="panel">
             <div class="row">
@@ -373,9 +373,12 @@ function ResultCard({ profile, onSave, saved, onHistory }: { profile: AnalysedPr
       </div>
       <RangeOnKeyboard range={profile.range} comfort={profile.comfort} reached={profile.reached} passaggi={profile.passaggi} />
       <Cautions items={profile.cautions} />
-      <div class="row">
+      <div class="row no-print">
         <button type="button" class="primary" data-testid="audition-save" onClick={onSave}>
           Save to {profile.singer}'s history
+        </button>
+        <button type="button" onClick={() => window.print()}>
+          Print the card…
         </button>
         {saved && (
           <p role="status" class="notice" style={{ margin: 0 }}>

@@ -22,6 +22,16 @@ const EMPTY_TYPED: TypedSinger = {
   notes: "",
 };
 
+type SortKey = "name" | "section" | "range";
+/** Sections in score order (S before A before T before B), then by number. */
+const sectionOrder = (label: string | null) => (label ? "SATB".indexOf(label[0]) * 10 + (Number(label.slice(1)) || 0) : 99);
+const SORTS: Record<SortKey, (a: SingerRow, b: SingerRow) => number> = {
+  name: (a, b) => a.name.localeCompare(b.name),
+  section: (a, b) => sectionOrder(a.section) - sectionOrder(b.section) || a.name.localeCompare(b.name),
+  // Highest voices first, by the top of the comfort zone the engine gave as MIDI.
+  range: (a, b) => (b.comfortHighMidi ?? -1) - (a.comfortHighMidi ?? -1) || a.name.localeCompare(b.name),
+};
+
 const VOICE_TYPES = ["soprano", "mezzo-soprano", "contralto", "countertenor", "tenor", "baritone", "bass"];
 
 export function SingersScreen() {
@@ -43,12 +53,15 @@ export function SingersScreen() {
   const singers = roster.data ?? [];
   const sections = useMemo(() => [...new Set(singers.map((s) => s.section).filter(Boolean) as string[])].sort(), [singers]);
   const types = useMemo(() => [...new Set(singers.map((s) => s.voiceType).filter(Boolean) as string[])].sort(), [singers]);
-  const shown = singers.filter(
-    (s) =>
-      (!search || s.name.toLowerCase().includes(search.toLowerCase())) &&
-      (!section || s.section === section) &&
-      (!voiceType || s.voiceType === voiceType),
-  );
+  const [sortKey, setSortKey] = useState<SortKey>("name");
+  const shown = singers
+    .filter(
+      (s) =>
+        (!search || s.name.toLowerCase().includes(search.toLowerCase())) &&
+        (!section || s.section === section) &&
+        (!voiceType || s.voiceType === voiceType),
+    )
+    .sort(SORTS[sortKey]);
 
   async function act(work: () => Promise<unknown>, done?: string) {
     setError(null);
@@ -256,10 +269,25 @@ export function SingersScreen() {
           <caption class="visually-hidden">The roster</caption>
           <thead>
             <tr>
-              <th scope="col">Name</th>
-              <th scope="col">Section</th>
+              <th scope="col" aria-sort={sortKey === "name" ? "ascending" : undefined}>
+                <button type="button" class="link" onClick={() => setSortKey("name")}>
+                  Name
+                </button>
+                {sortKey === "name" && <span aria-hidden="true"> ▾</span>}
+              </th>
+              <th scope="col" aria-sort={sortKey === "section" ? "ascending" : undefined}>
+                <button type="button" class="link" onClick={() => setSortKey("section")}>
+                  Section
+                </button>
+                {sortKey === "section" && <span aria-hidden="true"> ▾</span>}
+              </th>
               <th scope="col">Voice type</th>
-              <th scope="col">Range</th>
+              <th scope="col" aria-sort={sortKey === "range" ? "descending" : undefined}>
+                <button type="button" class="link" onClick={() => setSortKey("range")} title="Highest comfort zone first">
+                  Range
+                </button>
+                {sortKey === "range" && <span aria-hidden="true"> ▾</span>}
+              </th>
               <th scope="col">Comfort zone</th>
               <th scope="col">Passaggi</th>
               <th scope="col">Source</th>
