@@ -286,6 +286,21 @@ export function HistoryChart({ entries, width = 900 }: { entries: HistoryEntry[]
             <text x={cx - 18} y={y(p.comfort.low_midi) + 4} font-size={FONT - 1} text-anchor="end" fill={theme.comfort}>
               {p.comfort.low}
             </text>
+            {p.passaggi.map((passaggio) => (
+              <g key={passaggio.kind}>
+                <line
+                  x1={cx - 16}
+                  x2={cx + 16}
+                  y1={y(passaggio.midi)}
+                  y2={y(passaggio.midi)}
+                  stroke={theme.passaggio}
+                  stroke-width={2}
+                  stroke-dasharray={passaggio.source === "typical" ? "4 2" : undefined}
+                >
+                  <title>{`${passaggio.kind} passaggio ${passaggio.name} (${passaggio.source === "typical" ? "typical, not measured" : "measured"})`}</title>
+                </line>
+              </g>
+            ))}
             <text x={cx} y={bottom + 22} font-size={FONT} text-anchor="middle" fill={theme.text}>
               {entry.date}
             </text>

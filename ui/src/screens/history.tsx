@@ -55,6 +55,10 @@ export function HistoryScreen() {
                 <span class="swatch" style={{ background: "var(--comfort)" }} />
                 comfort zone
               </span>
+              <span>
+                <span class="swatch" style={{ background: "var(--passaggio)", height: "0.2rem" }} />
+                passaggi (dashed: typical, not measured; names in the table)
+              </span>
             </div>
             <HistoryChart entries={entries} />
           </>
