@@ -64,9 +64,10 @@ export function RangeOnKeyboard({
   width?: number;
 }) {
   const labelWidth = 118;
-  const low = Math.min(range.low_midi, comfort.low_midi, reached?.low_midi ?? Infinity);
-  const high = Math.max(range.high_midi, comfort.high_midi, reached?.high_midi ?? -Infinity);
-  const axis = keyboardAxis(low - 1, high + 1, width - labelWidth - 8, labelWidth);
+  const marks = passaggi.map((p) => p.midi);
+  const low = Math.min(range.low_midi, comfort.low_midi, reached?.low_midi ?? Infinity, ...marks);
+  const high = Math.max(range.high_midi, comfort.high_midi, reached?.high_midi ?? -Infinity, ...marks);
+  const axis = keyboardAxis(low - 1, high + 1, width - labelWidth - 8, labelWidth, 24);
   const rows: { label: string; span: Span; fill: string; stroke: string; dashed?: boolean }[] = [];
   if (reached) rows.push({ label: "Reached in glides", span: reached, fill: "none", stroke: theme.muted, dashed: true });
   rows.push({ label: "Range (held ≥ 1 s)", span: range, fill: theme.range, stroke: theme.accent });
@@ -162,7 +163,7 @@ export function HistogramOnKeyboard({
     .filter(([midi, value]) => Number.isFinite(midi) && Number.isFinite(value));
   const max = Math.max(1e-9, ...entries.map(([, v]) => v));
   const left = 46;
-  const axis = keyboardAxis(Math.min(axisLow, lowest), Math.max(axisHigh, highest), width - left - 6, left);
+  const axis = keyboardAxis(Math.min(axisLow, lowest), Math.max(axisHigh, highest), width - left - 6, left, 24);
   const plotTop = 12;
   const plotHeight = 120;
   const rangeY = plotTop + plotHeight + 16;

@@ -86,3 +86,16 @@ export function today(): string {
   const d = new Date();
   return `${d.getFullYear()}-${String(d.getMonth() + 1).padStart(2, "0")}-${String(d.getDate()).padStart(2, "0")}`;
 }
+
+/**
+ * An <option> whose `value` is also an HTML attribute. Preact sets `value` as a
+ * DOM property and skips it when it equals the text, which leaves no attribute
+ * for `option[value=…]` selectors (WebDriver's select-by-value uses them).
+ */
+export function Choice({ value, children }: { value: string; children?: ComponentChildren }) {
+  return (
+    <option value={value} ref={(element) => element?.setAttribute("value", value)}>
+      {children ?? value}
+    </option>
+  );
+}

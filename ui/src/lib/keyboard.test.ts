@@ -32,6 +32,16 @@ describe("keyboard axis", () => {
     expect(labels.find((label) => label.name === "C4")?.midi).toBe(60);
   });
 
+  it("widens a single held note to a minimum span around it", () => {
+    // A3 (57) alone, 24 semitones asked: A2 (45)…A4 (69), then padded out to
+    // whole octaves, C2 (36)…B4 (71).
+    const axis = keyboardAxis(57, 57, 360, 0, 24);
+    expect([axis.lowMidi, axis.highMidi]).toEqual([36, 71]);
+    // Without a minimum, the same note gets its own octave only.
+    const bare = keyboardAxis(57, 57, 360);
+    expect([bare.lowMidi, bare.highMidi]).toEqual([48, 59]);
+  });
+
   it("gives a usable axis for a reversed or empty range instead of failing", () => {
     const reversed = keyboardAxis(67, 52, 240);
     expect([reversed.lowMidi, reversed.highMidi]).toEqual([48, 71]);

@@ -27,16 +27,22 @@ export interface AxisKey {
 }
 
 /**
- * An axis covering lowMidi…highMidi (whole semitones, widened to at least an
- * octave and padded to the nearest C below and B above, so that labels sit at
- * the octave's start) across `width` pixels starting at `left`.
+ * An axis covering lowMidi…highMidi (whole semitones, widened evenly to at
+ * least `minSemitones`, then padded to the nearest C below and B above, so
+ * that labels sit at the octave's start) across `width` pixels from `left`.
  */
-export function keyboardAxis(lowMidi: number, highMidi: number, width: number, left = 0): KeyboardAxis {
+export function keyboardAxis(lowMidi: number, highMidi: number, width: number, left = 0, minSemitones = 0): KeyboardAxis {
   let low = Math.floor(Math.min(lowMidi, highMidi));
   let high = Math.ceil(Math.max(lowMidi, highMidi));
   if (!Number.isFinite(low) || !Number.isFinite(high)) {
     low = 48;
     high = 72;
+  }
+  // Widen a narrow span evenly on both sides, so one held note still sits in context.
+  const missing = minSemitones - (high - low);
+  if (missing > 0) {
+    low -= Math.floor(missing / 2);
+    high += Math.ceil(missing / 2);
   }
   low -= pitchClass(low); // down to a C
   high += 11 - pitchClass(high); // up to a B

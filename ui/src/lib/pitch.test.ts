@@ -1,5 +1,5 @@
 import { describe, expect, it } from "vitest";
-import { centsFromNearest, hzToMidi, isBlackKey, midiToHz, midiToName, nameToMidi } from "./pitch";
+import { centsFromNearest, hzToMidi, isBlackKey, midiToHz, midiToName, nameToMidi, spelledWithFlats } from "./pitch";
 
 describe("pitch names and equal temperament", () => {
   it("A4 = MIDI 69 = 440 Hz (ISO 16:1975 standard tuning frequency)", () => {
@@ -50,8 +50,17 @@ describe("pitch names and equal temperament", () => {
     expect(nameToMidi("")).toBeNull();
   });
 
+  it("spells black keys with flats on request, the enharmonic equivalents (Bb3 = A#3 = MIDI 58)", () => {
+    expect(midiToName(58, true)).toBe("Bb3");
+    expect(midiToName(58)).toBe("A#3");
+    expect(nameToMidi(midiToName(58, true))).toBe(nameToMidi("A#3"));
+    expect(midiToName(60, true)).toBe("C4");
+    expect(spelledWithFlats(["C4", "Bb4"])).toBe(true);
+    expect(spelledWithFlats(["B4", "F#3"])).toBe(false);
+  });
+
   it("black keys are C#, D#, F#, G#, A# (the piano keyboard)", () => {
-    const black = Array.from({ length: 12 }, (_, i) => 60 + i).filter(isBlackKey).map(midiToName);
+    const black = Array.from({ length: 12 }, (_, i) => 60 + i).filter(isBlackKey).map((midi) => midiToName(midi));
     expect(black).toEqual(["C#4", "D#4", "F#4", "G#4", "A#4"]);
   });
 

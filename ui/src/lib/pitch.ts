@@ -12,6 +12,7 @@
 export const ISO16_A4_HZ = 440;
 
 const SHARP_NAMES = ["C", "C#", "D", "D#", "E", "F", "F#", "G", "G#", "A", "A#", "B"];
+const FLAT_NAMES = ["C", "Db", "D", "Eb", "E", "F", "Gb", "G", "Ab", "A", "Bb", "B"];
 const LETTER_SEMITONES: Record<string, number> = { C: 0, D: 2, E: 4, F: 5, G: 7, A: 9, B: 11 };
 
 /** Black keys of a piano keyboard, as pitch classes. */
@@ -26,11 +27,20 @@ export function isBlackKey(midi: number): boolean {
   return BLACK_PITCH_CLASSES.has(pitchClass(midi));
 }
 
-/** "C4" for 60, "F#3" for 54: the nearest equal-tempered note, sharps for black keys. */
-export function midiToName(midi: number): string {
+/**
+ * "C4" for 60, "F#3" for 54: the nearest equal-tempered note, sharps for black
+ * keys, or flats ("Gb3") when `flats` is set (to match names the engine spelled
+ * in a flat key).
+ */
+export function midiToName(midi: number, flats = false): string {
   const rounded = Math.round(midi);
   const octave = Math.floor(rounded / 12) - 1;
-  return `${SHARP_NAMES[pitchClass(rounded)]}${octave}`;
+  return `${(flats ? FLAT_NAMES : SHARP_NAMES)[pitchClass(rounded)]}${octave}`;
+}
+
+/** Whether engine-produced names use flats (so the UI's own names should too). */
+export function spelledWithFlats(names: string[]): boolean {
+  return names.some((name) => /^[A-G](b|♭)/.test(name));
 }
 
 /** Frequency of a (fractional) MIDI number: f = A4 · 2^((m − 69)/12). */

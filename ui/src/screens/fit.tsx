@@ -5,7 +5,7 @@
  */
 import { useEffect, useState } from "preact/hooks";
 import { api, errorText, type FitCell, type FitMatrix } from "../api";
-import { Cautions, ErrorMessage, Field, fitText, percent, seconds, useLoad } from "../components/common";
+import { Choice, Cautions, ErrorMessage, Field, fitText, percent, seconds, useLoad } from "../components/common";
 import { COMMON_LAYOUTS } from "../lib/layouts";
 import { fitCellColours, viridisHex } from "../lib/palette";
 
@@ -106,7 +106,7 @@ export function FitScreen() {
         <Field label="Layout">
           <select value={layout} onChange={(e) => setLayout((e.target as HTMLSelectElement).value)}>
             {COMMON_LAYOUTS.map((l) => (
-              <option key={l}>{l}</option>
+              <Choice key={l} value={l} />
             ))}
           </select>
         </Field>

@@ -6,7 +6,7 @@ import { useEffect, useState } from "preact/hooks";
 import { api } from "../api";
 import { useShared } from "../app";
 import { HistoryChart } from "../components/charts";
-import { Cautions, ErrorMessage, Field, percent, useLoad } from "../components/common";
+import { Choice, Cautions, ErrorMessage, Field, percent, useLoad } from "../components/common";
 
 export function HistoryScreen() {
   const { parameter } = useShared();
@@ -32,12 +32,12 @@ export function HistoryScreen() {
       <div class="toolbar">
         <Field label="Singer">
           <select data-testid="history-singer" value={name} onChange={(e) => setName((e.target as HTMLSelectElement).value)}>
-            {!name && <option value="">—</option>}
+            {!name && <Choice value="">—</Choice>}
             {(singers.data ?? []).map((s) => (
-              <option key={s.name} value={s.name}>
+              <Choice key={s.name} value={s.name}>
                 {s.name}
                 {s.archived ? " (archived)" : ""}
-              </option>
+              </Choice>
             ))}
           </select>
         </Field>

@@ -8,11 +8,11 @@ import { useEffect, useRef, useState } from "preact/hooks";
 import { api, backend, errorText, type HotSpot, type PartAnalysis, type PieceAnalysis } from "../api";
 import { useShared } from "../app";
 import { HistogramOnKeyboard } from "../components/charts";
-import { ErrorMessage, Field, seconds, useLoad } from "../components/common";
+import { Choice, ErrorMessage, Field, seconds, useLoad } from "../components/common";
 import { NotationExcerpt } from "../components/notation";
 import { excerptBars } from "../lib/bars";
 import { COMMON_LAYOUTS, layoutSections } from "../lib/layouts";
-import { midiToName } from "../lib/pitch";
+import { midiToName, spelledWithFlats } from "../lib/pitch";
 
 const AUTO = "__auto";
 const NOT_SUNG = "__none";
@@ -142,6 +142,9 @@ export function PiecesScreen() {
 
   const part = analysis?.parts.find((p) => p.name === partName) ?? null;
   const allParts = analysis ? analysis.parts.flatMap((p) => [p, ...(p.divisi ?? [])]) : [];
+  // The engine spells names in the piece's key; the UI's own names follow it.
+  const flats = spelledWithFlats(allParts.flatMap((p) => [p.lowest, p.highest, p.longest_note.name]));
+  const name = (midi: number) => midiToName(midi, flats);
 
   return (
     <section data-testid="screen-pieces" aria-labelledby="pieces-title">
@@ -242,12 +245,12 @@ export function PiecesScreen() {
                                   setMappingChanged(true);
                                 }}
                               >
-                                <option value={AUTO}>auto: {mappedSection(analysis, p)}</option>
-                                <option value={NOT_SUNG}>not sung by the choir</option>
+                                <Choice value={AUTO}>auto: {mappedSection(analysis, p)}</Choice>
+                                <Choice value={NOT_SUNG}>not sung by the choir</Choice>
                                 {layoutSections(analysis.layout ?? "SATB").map((section) => (
-                                  <option key={section} value={section}>
+                                  <Choice key={section} value={section}>
                                     {section}
-                                  </option>
+                                  </Choice>
                                 ))}
                               </select>
                             )}
@@ -256,7 +259,7 @@ export function PiecesScreen() {
                             {p.lowest}–{p.highest}
                           </td>
                           <td>
-                            {midiToName(p.mean_midi)} ({midiToName(p.mean_midi - p.sd_semitones)}–{midiToName(p.mean_midi + p.sd_semitones)})
+                            {name(p.mean_midi)} ({name(p.mean_midi - p.sd_semitones)}–{name(p.mean_midi + p.sd_semitones)})
                           </td>
                           <td class="num">{seconds(p.sung_seconds)}</td>
                           <td>
@@ -274,7 +277,7 @@ export function PiecesScreen() {
                 <Field label="Layout for the mapping">
                   <select value={analysis.layout ?? "SATB"} onChange={(e) => changeLayout((e.target as HTMLSelectElement).value)}>
                     {[...new Set([analysis.layout ?? "SATB", ...COMMON_LAYOUTS])].map((l) => (
-                      <option key={l}>{l}</option>
+                      <Choice key={l} value={l} />
                     ))}
                   </select>
                 </Field>
@@ -322,7 +325,7 @@ export function PiecesScreen() {
                 <dt>Middle half of sung time</dt>
                 <dd>
                   {part.percentiles_midi["25"] !== undefined && part.percentiles_midi["75"] !== undefined
-                    ? `${midiToName(part.percentiles_midi["25"])}–${midiToName(part.percentiles_midi["75"])} (25th–75th percentile)`
+                    ? `${name(part.percentiles_midi["25"])}–${name(part.percentiles_midi["75"])} (25th–75th percentile)`
                     : "—"}
                 </dd>
                 <dt>Longest note</dt>
@@ -345,7 +348,7 @@ export function PiecesScreen() {
                       <button type="button" class="link" onClick={() => showExcerpt(part, spot)} aria-label={`Show bars ${spot.bars} of ${part.name} in notation`}>
                         {spot.bars}
                       </button>{" "}
-                      around {midiToName(spot.mean_midi)}, {spot.start_seconds.toFixed(0)}–{spot.end_seconds.toFixed(0)} s
+                      around {name(spot.mean_midi)}, {spot.start_seconds.toFixed(0)}–{spot.end_seconds.toFixed(0)} s
                     </li>
                   ))}
                 </ul>

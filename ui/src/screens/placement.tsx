@@ -15,7 +15,7 @@ import {
   type PlaceResult,
   type TransposeAdvice,
 } from "../api";
-import { Cautions, ErrorMessage, Field, fitText, signed, today, useLoad } from "../components/common";
+import { Choice, Cautions, ErrorMessage, Field, fitText, signed, today, useLoad } from "../components/common";
 import { csvText } from "../lib/csv";
 import { COMMON_LAYOUTS, layoutSections } from "../lib/layouts";
 
@@ -174,7 +174,7 @@ export function PlacementScreen() {
           <Field label="Layout">
             <select data-testid="place-layout" value={layout} onChange={(e) => setLayout((e.target as HTMLSelectElement).value)}>
               {COMMON_LAYOUTS.map((l) => (
-                <option key={l}>{l}</option>
+                <Choice key={l} value={l} />
               ))}
             </select>
           </Field>
@@ -220,17 +220,17 @@ export function PlacementScreen() {
         <div class="row" style={{ marginTop: "0.7rem" }}>
           <Field label="Singer">
             <select value={pick.singer} onChange={(e) => setPick({ ...pick, singer: (e.target as HTMLSelectElement).value })}>
-              <option value="">—</option>
+              <Choice value="">—</Choice>
               {activeSingers.map((n) => (
-                <option key={n}>{n}</option>
+                <Choice key={n} value={n} />
               ))}
             </select>
           </Field>
           <Field label="Section">
             <select value={pick.section} onChange={(e) => setPick({ ...pick, section: (e.target as HTMLSelectElement).value })}>
-              <option value="">—</option>
+              <Choice value="">—</Choice>
               {sections.map((s) => (
-                <option key={s}>{s}</option>
+                <Choice key={s} value={s} />
               ))}
             </select>
           </Field>
@@ -397,6 +397,7 @@ export function PlacementScreen() {
 function moveText({ name, from, to, move }: MoveReport): string {
   const delta = move.singer.after - move.singer.before;
   const sectionText = move.sections
+    .filter((s) => s.countBefore !== s.countAfter || s.meanBefore !== s.meanAfter)
     .map((s) => `${s.section} ${s.countBefore}→${s.countAfter} singers, mean fit ${fitText(s.meanBefore)}→${fitText(s.meanAfter)}`)
     .join("; ");
   const broken = move.violations && move.violations.length > 0 ? ` This breaks ${move.violations.length} constraint${move.violations.length === 1 ? "" : "s"}.` : "";
@@ -433,7 +434,7 @@ function PlacementTable({ result, sections, onMove }: { result: PlaceResult; sec
             <td class="no-print">
               <select data-testid={`place-move-${a.singer}`} aria-label={`Move ${a.singer} to section`} value={a.section} onChange={(e) => onMove(a.singer, (e.target as HTMLSelectElement).value)}>
                 {sections.map((s) => (
-                  <option key={s}>{s}</option>
+                  <Choice key={s} value={s} />
                 ))}
               </select>
             </td>
@@ -535,7 +536,7 @@ function TranspositionPanel({ titles }: { titles: string[] }) {
       <Field label="Piece">
         <select value={title} onChange={(e) => setTitle((e.target as HTMLSelectElement).value)}>
           {titles.map((t) => (
-            <option key={t}>{t}</option>
+            <Choice key={t} value={t} />
           ))}
         </select>
       </Field>

@@ -6,7 +6,7 @@
 import { useMemo, useState } from "preact/hooks";
 import { api, backend, errorText, type ImportPreview, type SingerRow, type TypedSinger } from "../api";
 import { useShared } from "../app";
-import { Cautions, ErrorMessage, Field, useLoad } from "../components/common";
+import { Choice, Cautions, ErrorMessage, Field, useLoad } from "../components/common";
 import { Modal } from "../components/modal";
 
 const EMPTY_TYPED: TypedSinger = {
@@ -126,17 +126,17 @@ export function SingersScreen() {
         </Field>
         <Field label="Section">
           <select value={section} onChange={(e) => setSection((e.target as HTMLSelectElement).value)}>
-            <option value="">all</option>
+            <Choice value="">all</Choice>
             {sections.map((s) => (
-              <option key={s}>{s}</option>
+              <Choice key={s} value={s} />
             ))}
           </select>
         </Field>
         <Field label="Voice type">
           <select value={voiceType} onChange={(e) => setVoiceType((e.target as HTMLSelectElement).value)}>
-            <option value="">all</option>
+            <Choice value="">all</Choice>
             {types.map((t) => (
-              <option key={t}>{t}</option>
+              <Choice key={t} value={t} />
             ))}
           </select>
         </Field>
@@ -244,9 +244,9 @@ export function SingersScreen() {
             </Field>
             <Field label="Voice type">
               <select value={typed.voiceType} onChange={set("voiceType")}>
-                <option value="">—</option>
+                <Choice value="">—</Choice>
                 {VOICE_TYPES.map((t) => (
-                  <option key={t}>{t}</option>
+                  <Choice key={t} value={t} />
                 ))}
               </select>
             </Field>
