@@ -16,7 +16,9 @@ export function HistoryScreen() {
 
   useEffect(() => {
     if (!name && singers.data && singers.data.length > 0) {
-      const measured = singers.data.find((s) => s.source === "measured") ?? singers.data[0];
+      // Open on the singer with the most auditions, so the chart has something to show.
+      const richest = [...singers.data].sort((a, b) => (b.auditions ?? 0) - (a.auditions ?? 0))[0];
+      const measured = (richest?.auditions ?? 0) > 0 ? richest : (singers.data.find((s) => s.source === "measured") ?? singers.data[0]);
       setName(measured.name);
     }
   }, [singers.data]);
