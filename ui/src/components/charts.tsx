@@ -226,10 +226,15 @@ function verticalAxis(low: number, high: number, top: number, bottom: number) {
 export function HistoryChart({ entries, width = 900 }: { entries: HistoryEntry[]; width?: number }) {
   if (entries.length === 0) return null;
   const sorted = [...entries].sort((a, b) => a.date.localeCompare(b.date));
-  const lows = sorted.map((e) => Math.min(e.profile.range.low_midi, e.profile.comfort.low_midi));
-  const highs = sorted.map((e) => Math.max(e.profile.range.high_midi, e.profile.comfort.high_midi));
-  const low = Math.floor(Math.min(...lows)) - 2;
-  const high = Math.ceil(Math.max(...highs)) + 2;
+  const marks = (e: HistoryEntry) => [e.profile.range.low_midi, e.profile.range.high_midi, e.profile.comfort.low_midi, e.profile.comfort.high_midi, ...e.profile.passaggi.map((p) => p.midi)];
+  let low = Math.floor(Math.min(...sorted.flatMap(marks))) - 2;
+  let high = Math.ceil(Math.max(...sorted.flatMap(marks))) + 2;
+  // At least two octaves, so one narrow profile still sits in context.
+  const missing = 24 - (high - low);
+  if (missing > 0) {
+    low -= Math.floor(missing / 2);
+    high += Math.ceil(missing / 2);
+  }
   const top = 14;
   const bottom = 330;
   const left = 70;
