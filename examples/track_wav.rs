@@ -3,7 +3,7 @@
 //! alone, without the audio module's decoders.
 //!
 //! `cargo run --release --example track_wav -- FILE.wav [--yin] [--no-gate]
-//!  [--octave P] [--lag SECONDS] [--periods P] [--bins N]`
+//!  [--octave P] [--trust C] [--lag SECONDS] [--periods P] [--bins N] [--beam NATS]`
 
 use ambit::track::{self, TrackConfig, TrackMethod};
 
@@ -35,6 +35,10 @@ fn main() -> Result<(), Box<dyn std::error::Error>> {
             }
             "--periods" => {
                 config.integration_periods = value()?;
+                index += 1;
+            }
+            "--beam" => {
+                config.viterbi_beam_nats = Some(value()?);
                 index += 1;
             }
             "--bins" => {

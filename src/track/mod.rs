@@ -92,6 +92,11 @@ pub struct TrackConfig {
     /// path can stay on the sub-octave for ever; below 1 the path can always
     /// pass through unvoiced frames (see docs/METHODS.md).
     pub candidate_trust: f64,
+    /// Viterbi beam, in nats (natural-log units of probability): after each
+    /// frame, HMM states this far below the best are dropped. `None` keeps
+    /// every state that can still be on the best path (exact decoding).
+    /// See docs/METHODS.md for the measured effect.
+    pub viterbi_beam_nats: Option<f64>,
 }
 
 impl Default for TrackConfig {
@@ -110,6 +115,7 @@ impl Default for TrackConfig {
             voicing_gate_db: Some(-70.0),
             octave_jump_probability: 0.0,
             candidate_trust: 0.9,
+            viterbi_beam_nats: Some(40.0),
         }
     }
 }
@@ -213,6 +219,11 @@ pub fn validate(sample_rate: u32, config: &TrackConfig) -> Result<(), TrackError
     {
         return bad("the Viterbi lag must be zero or more seconds".into());
     }
+    if let Some(beam) = config.viterbi_beam_nats
+        && !(beam.is_finite() && beam > 0.0)
+    {
+        return bad("the Viterbi beam must be a positive number of nats".into());
+    }
     if let Some(gate) = config.voicing_gate_db
         && !gate.is_finite()
     {
@@ -263,6 +274,8 @@ impl Plan {
                 lag_frames,
                 octave_jump_probability: config.octave_jump_probability,
                 candidate_trust: config.candidate_trust,
+                beam_nats: config.viterbi_beam_nats.unwrap_or(f64::INFINITY),
+                exhaustive: false,
             },
         })
     }
@@ -312,17 +325,23 @@ fn fill_frame(
     frame: &mut [f32],
 ) {
     let start = plan.frame_start(index);
-    for (offset, slot) in frame.iter_mut().enumerate() {
-        let absolute = start + offset as i64;
-        *slot = if absolute < 0 || absolute >= signal_end {
-            0.0
-        } else {
-            usize::try_from(absolute - source_start)
-                .ok()
-                .and_then(|position| source.get(position))
-                .copied()
-                .unwrap_or(0.0)
-        };
+    let end = start + frame.len() as i64;
+    // Absolute samples both in the signal and in `source`, clipped to the frame.
+    let first = start.max(0).max(source_start).min(end);
+    let last = end
+        .min(signal_end)
+        .min(source_start + source.len() as i64)
+        .max(first);
+    frame.fill(0.0);
+    if let (Ok(into), Ok(from), Ok(count)) = (
+        usize::try_from(first - start),
+        usize::try_from(first - source_start),
+        usize::try_from(last - first),
+    ) && let (Some(to), Some(samples)) = (
+        frame.get_mut(into..into + count),
+        source.get(from..from + count),
+    ) {
+        to.copy_from_slice(samples);
     }
 }
 
