@@ -12,6 +12,7 @@
 //! `hmm` decodes pitch × voicing; `summary` turns a track into the figures a
 //! person reads (duration, voiced share, median and stable pitches).
 
+mod filter;
 mod hmm;
 mod summary;
 pub mod yin;
@@ -97,6 +98,12 @@ pub struct TrackConfig {
     /// every state that can still be on the best path (exact decoding).
     /// See docs/METHODS.md for the measured effect.
     pub viterbi_beam_nats: Option<f64>,
+    /// Cutoff of the low-pass filter in front of the analysis, Hz (4th-order
+    /// Butterworth). It is raised to 2 × `fmax_hz` when below it, so the
+    /// first two harmonics of the highest f0 searched always pass, and no
+    /// filter runs when the cutoff reaches 0.9 × Nyquist. `None` analyses the
+    /// full band. See docs/METHODS.md for why and what it gains.
+    pub lowpass_hz: Option<f64>,
 }
 
 impl Default for TrackConfig {
@@ -115,7 +122,8 @@ impl Default for TrackConfig {
             voicing_gate_db: Some(-70.0),
             octave_jump_probability: 0.0,
             candidate_trust: 0.9,
-            viterbi_beam_nats: Some(40.0),
+            viterbi_beam_nats: Some(80.0),
+            lowpass_hz: Some(5000.0),
         }
     }
 }
@@ -219,6 +227,13 @@ pub fn validate(sample_rate: u32, config: &TrackConfig) -> Result<(), TrackError
     {
         return bad("the Viterbi lag must be zero or more seconds".into());
     }
+    if let Some(cutoff) = config.lowpass_hz
+        && !(cutoff.is_finite() && cutoff > 0.0)
+    {
+        return bad(format!(
+            "the low-pass cutoff {cutoff} Hz must be a positive frequency"
+        ));
+    }
     if let Some(beam) = config.viterbi_beam_nats
         && !(beam.is_finite() && beam > 0.0)
     {
@@ -240,6 +255,8 @@ struct Plan {
     /// Frame index in the frame buffer that sits on the frame's centre time.
     centre_offset: usize,
     hmm: hmm::HmmParameters,
+    /// Effective low-pass cutoff, when a filter runs.
+    lowpass_hz: Option<f64>,
 }
 
 impl Plan {
@@ -261,7 +278,13 @@ impl Plan {
         let lag_frames = (config.viterbi_lag_seconds / config.hop_seconds)
             .round()
             .min(u32::MAX as f64) as usize;
+        let nyquist = f64::from(sample_rate) / 2.0;
+        let lowpass_hz = config
+            .lowpass_hz
+            .map(|cutoff| cutoff.max(2.0 * config.fmax_hz))
+            .filter(|&cutoff| cutoff < 0.9 * nyquist);
         Ok(Plan {
+            lowpass_hz,
             config: *config,
             layout,
             centre_offset: layout.window_start + layout.integration_samples / 2,
@@ -278,6 +301,11 @@ impl Plan {
                 exhaustive: false,
             },
         })
+    }
+
+    fn low_pass(&self) -> Option<filter::LowPass> {
+        self.lowpass_hz
+            .map(|cutoff| filter::LowPass::new(cutoff, self.layout.sample_rate))
     }
 
     /// Sample index of frame `index`'s centre: frames sit at exact multiples
@@ -474,6 +502,20 @@ pub fn track_samples(
             "the signal is empty: there is nothing to track".into(),
         ));
     }
+    // Band-limited copy (one causal pass, as the streaming tracker filters
+    // sample by sample).
+    let filtered;
+    let samples = match plan.low_pass() {
+        Some(mut low_pass) => {
+            filtered = {
+                let mut copy = samples.to_vec();
+                low_pass.process(&mut copy);
+                copy
+            };
+            &filtered[..]
+        }
+        None => samples,
+    };
     let frame_count = plan.frame_count(samples.len());
     let signal_end = samples.len() as i64;
     let mut decision = Decision::new(&plan);
@@ -559,6 +601,7 @@ pub struct StreamingTracker {
     candidates: Vec<Candidate>,
     provisional: Option<Frame>,
     non_finite: u64,
+    low_pass: Option<filter::LowPass>,
 }
 
 impl StreamingTracker {
@@ -575,6 +618,7 @@ impl StreamingTracker {
             candidates: Vec::new(),
             provisional: None,
             non_finite: 0,
+            low_pass: plan.low_pass(),
             plan,
         })
     }
@@ -607,6 +651,7 @@ impl StreamingTracker {
     pub fn push(&mut self, samples: &[f32]) -> Vec<Frame> {
         let mut out = Vec::new();
         self.buffer.reserve(samples.len());
+        let first_new = self.buffer.len();
         for &sample in samples {
             if sample.is_finite() {
                 self.buffer.push(sample);
@@ -614,6 +659,9 @@ impl StreamingTracker {
                 self.non_finite += 1;
                 self.buffer.push(0.0);
             }
+        }
+        if let Some(low_pass) = &mut self.low_pass {
+            low_pass.process(&mut self.buffer[first_new..]);
         }
         self.received += samples.len() as i64;
         // Analyse every frame whose samples have all arrived.
