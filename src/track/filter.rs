@@ -105,13 +105,14 @@ mod tests {
         let cutoff = 5_000.0;
         for frequency in [200.0, 2_100.0, 5_000.0, 8_000.0, 15_000.0] {
             let mut filter = LowPass::new(cutoff, rate);
-            let mut samples: Vec<f32> = (0..20_000)
+            let mut samples: Vec<f32> = (0..60_000)
                 .map(|index| {
                     (2.0 * PI * frequency * f64::from(index) / f64::from(rate)).sin() as f32
                 })
                 .collect();
             filter.process(&mut samples);
-            let tail = &samples[10_000..];
+            // The last second: a whole number of cycles of every test tone.
+            let tail = &samples[60_000 - 44_100..];
             let rms = (tail
                 .iter()
                 .map(|&s| f64::from(s) * f64::from(s))

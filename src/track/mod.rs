@@ -4,13 +4,14 @@
 //! Architecture invariant: track takes samples, not files (apart from the
 //! thin [`track_file`]/[`track_files`] wrappers over `audio::decode_file`),
 //! and knows nothing about notes, ranges or singers. Every frame's analysis
-//! is a pure function of the samples around it and the [`TrackConfig`]; the
-//! offline tracker is the streaming tracker run over the whole signal, so the
-//! two give identical frames.
+//! is a pure function of the (causally low-passed) samples up to its end and
+//! the [`TrackConfig`]; the offline tracker is the streaming tracker run over
+//! the whole signal, so the two give identical frames.
 //!
-//! Layout: `yin` analyses one frame (FFT difference function, candidates);
-//! `hmm` decodes pitch × voicing; `summary` turns a track into the figures a
-//! person reads (duration, voiced share, median and stable pitches).
+//! Layout: `filter` band-limits the signal; `yin` analyses one frame (FFT
+//! difference function, candidates); `hmm` decodes pitch × voicing;
+//! `summary` turns a track into the figures a person reads (duration, voiced
+//! share, median and stable pitches).
 
 mod filter;
 mod hmm;
