@@ -503,22 +503,15 @@ pub fn track_samples(
             "the signal is empty: there is nothing to track".into(),
         ));
     }
-    // Band-limited copy (one causal pass, as the streaming tracker filters
-    // sample by sample).
-    let filtered;
-    let samples = match plan.low_pass() {
-        Some(mut low_pass) => {
-            filtered = {
-                let mut copy = samples.to_vec();
-                low_pass.process(&mut copy);
-                copy
-            };
-            &filtered[..]
-        }
-        None => samples,
-    };
     let frame_count = plan.frame_count(samples.len());
     let signal_end = samples.len() as i64;
+    // The band-limited signal is made round by round, one causal pass in
+    // order (as the streaming tracker filters sample by sample), holding
+    // only the samples the round's frames need: absolute samples
+    // `filtered_start .. filtered_start + filtered.len()`.
+    let mut low_pass = plan.low_pass();
+    let mut filtered: Vec<f32> = Vec::new();
+    let mut filtered_start: i64 = 0;
     let mut decision = Decision::new(&plan);
     let mut frames = Vec::with_capacity(frame_count);
     let block_count = frame_count.div_ceil(BLOCK_FRAMES);
@@ -527,6 +520,31 @@ pub fn track_samples(
     let mut first_block = 0;
     while first_block < block_count {
         let last_block = (first_block + blocks_per_round).min(block_count);
+        let (source, source_start): (&[f32], i64) = match &mut low_pass {
+            Some(low_pass) => {
+                let first_frame = first_block * BLOCK_FRAMES;
+                let last_frame = (last_block * BLOCK_FRAMES).min(frame_count).max(1) - 1;
+                let needed_from = plan.frame_start(first_frame).clamp(0, signal_end);
+                let needed_to = (plan.frame_start(last_frame) + plan.layout.frame_samples as i64)
+                    .clamp(0, signal_end);
+                let stale = usize::try_from(needed_from - filtered_start)
+                    .unwrap_or(0)
+                    .min(filtered.len());
+                filtered.drain(..stale);
+                filtered_start += stale as i64;
+                let filtered_end = filtered_start + filtered.len() as i64;
+                if let (Ok(from), Ok(to)) =
+                    (usize::try_from(filtered_end), usize::try_from(needed_to))
+                    && let Some(fresh) = samples.get(from..to)
+                {
+                    let begin = filtered.len();
+                    filtered.extend_from_slice(fresh);
+                    low_pass.process(&mut filtered[begin..]);
+                }
+                (&filtered[..], filtered_start)
+            }
+            None => (samples, 0),
+        };
         let analysed: Vec<(Vec<Observation>, Vec<Candidate>, Vec<usize>)> = (first_block
             ..last_block)
             .into_par_iter()
@@ -545,7 +563,7 @@ pub fn track_samples(
                     let mut bounds = Vec::with_capacity(end - start + 1);
                     bounds.push(0);
                     for index in start..end {
-                        fill_frame(&plan, index, samples, 0, signal_end, frame);
+                        fill_frame(&plan, index, source, source_start, signal_end, frame);
                         observations.push(observe(&plan, analyser, frame, &mut candidates));
                         bounds.push(candidates.len());
                     }
