@@ -273,3 +273,46 @@ fn noise_or_speech_where_singing_was_asked_is_named_by_task_and_file() {
         "{warnings:#?}"
     );
 }
+
+/// "Contradictory tasks, such as a glide far above every sustained note:
+/// reported, not hidden." The glide of a demo soprano is put together with a
+/// demo bass's other tasks: the glide reaches about two octaves above any
+/// held note, and the profile must say so rather than quietly use one or the
+/// other.
+#[test]
+fn a_glide_far_above_every_held_note_is_reported() {
+    use ambit::demo::audition;
+    use ambit::voice::types::VoiceType;
+    let pick = |voice_type: VoiceType| {
+        DEMO_CHOIR
+            .iter()
+            .position(|singer| singer.voice_type == voice_type)
+            .expect("the demo choir has every voice type")
+    };
+    let soprano = pick(VoiceType::Soprano);
+    let bass = pick(VoiceType::Bass);
+    let high = audition(&DEMO_CHOIR[soprano], 11).unwrap();
+    let low = audition(&DEMO_CHOIR[bass], 12).unwrap();
+    let mixed: Vec<_> = low
+        .into_iter()
+        .filter(|recording| recording.task != Task::Glide)
+        .chain(
+            high.into_iter()
+                .filter(|recording| recording.task == Task::Glide),
+        )
+        .collect();
+    let measured = profile(&mixed, &ProfileConfig::default()).unwrap();
+    assert!(
+        measured.warnings.iter().any(
+            |warning| warning.contains("the glide reached") && warning.contains("no held note")
+        ),
+        "{:?}",
+        measured.warnings
+    );
+    // The range stays the held notes' range (the bass's), not the glide's.
+    assert!(
+        measured.range.high_midi < DEMO_CHOIR[soprano].range_high_midi - 7.0,
+        "{:?}",
+        measured.range
+    );
+}
