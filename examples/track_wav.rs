@@ -3,7 +3,8 @@
 //! alone, without the audio module's decoders.
 //!
 //! `cargo run --release --example track_wav -- FILE.wav [--yin] [--no-gate]
-//!  [--octave P] [--lag SECONDS] [--periods P] [--bins N]`
+//!  [--octave P] [--trust C] [--lag SECONDS] [--periods P] [--bins N] [--beam NATS]
+//!  [--lowpass HZ] [--no-lowpass]`
 
 use ambit::track::{self, TrackConfig, TrackMethod};
 
@@ -37,6 +38,15 @@ fn main() -> Result<(), Box<dyn std::error::Error>> {
                 config.integration_periods = value()?;
                 index += 1;
             }
+            "--beam" => {
+                config.viterbi_beam_nats = Some(value()?);
+                index += 1;
+            }
+            "--lowpass" => {
+                config.lowpass_hz = Some(value()?);
+                index += 1;
+            }
+            "--no-lowpass" => config.lowpass_hz = None,
             "--bins" => {
                 config.bins_per_semitone = value()? as u32;
                 index += 1;

@@ -15,8 +15,9 @@ every tracker decodes the same file and none needs to resample.
 
 All three trackers search 50-2100 Hz at a 10 ms hop (librosa: hop_length 220
 at 22 050 Hz, the nearest whole number of samples). Times are wall clock
-and CPU (user + system) seconds, each the best of --runs; on a shared,
-loaded machine the CPU figures are the steadier. librosa is timed twice: analysis alone (audio already loaded
+and CPU (user + system) seconds, each the median of --runs runs (default 3,
+librosa.pyin included); on a shared, loaded machine the CPU figures are the
+steadier, and the ratios are taken between CPU times. librosa is timed twice: analysis alone (audio already loaded
 at 22 050 Hz) and load + analysis; ambit's time is always the whole command
 (process start, decode, resample, track, JSON out).
 
@@ -34,6 +35,7 @@ import json
 import os
 import resource
 import shutil
+import statistics
 import subprocess
 import sys
 import tempfile
@@ -77,8 +79,8 @@ def child_cpu_seconds():
     return usage.ru_utime + usage.ru_stime
 
 
-def best_times(command, env, runs):
-    """Best wall-clock and best CPU (user + system) seconds over `runs`."""
+def median_times(command, env, runs):
+    """Median wall-clock and median CPU (user + system) seconds over `runs`."""
     walls, cpus = [], []
     for _ in range(runs):
         cpu_before = child_cpu_seconds()
@@ -88,11 +90,11 @@ def best_times(command, env, runs):
         cpus.append(child_cpu_seconds() - cpu_before)
         if done.returncode != 0:
             sys.exit(f"{' '.join(command)} failed:\n{done.stderr.decode()}")
-    return min(walls), min(cpus), done.stdout
+    return statistics.median(walls), statistics.median(cpus), cpus, done.stdout
 
 
 LIBROSA_TIMER = r"""
-import json, sys, time
+import json, statistics, sys, time
 import librosa
 path, method, runs = sys.argv[1], sys.argv[2], int(sys.argv[3])
 fmin, fmax, sr, hop = 50.0, 2100.0, 22050, 220
@@ -114,9 +116,10 @@ for _ in range(runs):
     whole.append(end - start)
     alone_cpu.append(end_cpu - loaded_cpu)
     whole_cpu.append(end_cpu - start_cpu)
-print(json.dumps({"analysis": min(alone), "load_and_analysis": min(whole),
-                  "analysis_cpu": min(alone_cpu), "load_and_analysis_cpu": min(whole_cpu),
-                  "frames": int(len(f0))}))
+m = statistics.median
+print(json.dumps({"analysis": m(alone), "load_and_analysis": m(whole),
+                  "analysis_cpu": m(alone_cpu), "load_and_analysis_cpu": m(whole_cpu),
+                  "analysis_cpu_runs": alone_cpu, "runs": runs, "frames": int(len(f0))}))
 """
 
 
@@ -160,7 +163,7 @@ def main():
             command = ["target/release/examples/track_wav", path]
         else:
             command = [arguments.ambit, "track", "--json", path]
-        ambit_seconds, ambit_cpu, output = best_times(pin + command, env, arguments.runs)
+        ambit_seconds, ambit_cpu, ambit_cpus, output = median_times(pin + command, env, arguments.runs)
         ambit_frames = len(json.loads(output)["frames"])
         results = {
             "seconds_of_audio": arguments.seconds,
@@ -169,13 +172,14 @@ def main():
             "ambit_track_json": {
                 "wall_seconds": ambit_seconds,
                 "cpu_seconds": ambit_cpu,
+                "cpu_seconds_runs": ambit_cpus,
                 "frames": ambit_frames,
             },
         }
         methods = ["yin"] if arguments.skip_pyin else ["yin", "pyin"]
         for method in methods:
             results[f"librosa_{method}"] = time_librosa(
-                sys.executable, path, method, env, 1 if method == "pyin" else arguments.runs, arguments.one_core
+                sys.executable, path, method, env, arguments.runs, arguments.one_core
             )
 
     print(json.dumps(results, indent=2))

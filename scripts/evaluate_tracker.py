@@ -21,6 +21,7 @@ sections are kept).
 
 import argparse
 import csv
+import hashlib
 import json
 import shlex
 import subprocess
@@ -66,6 +67,41 @@ def run_ambit(binary, wav, out_csv, fmin, fmax, template=None):
     return seconds
 
 
+def evaluate_case(case, pyin_cache=None):
+    """mir_eval's metrics for ours and librosa.pyin on one case.
+
+    With `pyin_cache` (a directory), pyin's f0 track for a WAV whose bytes,
+    fmin/fmax and librosa version match a stored one is read back instead of
+    recomputed: for iterating on our tracker only. Published figures are
+    measured without it, so pyin runs live in the same run.
+    """
+    if pyin_cache is None:
+        return track_accuracy.evaluate_case(case)
+    digest = hashlib.sha256(Path(case["wav"]).read_bytes())
+    digest.update(f"{case['fmin']}/{case['fmax']}/{track_accuracy.librosa.__version__}".encode())
+    stored = Path(pyin_cache) / f"{digest.hexdigest()}.npz"
+    np = track_accuracy.np
+    if stored.exists():
+        saved = np.load(stored)
+        pyin_time, pyin_freq = saved["time"], saved["freq"]
+        pyin_seconds, audio_seconds = float(saved["seconds"]), float(saved["audio_seconds"])
+    else:
+        pyin_time, pyin_freq, pyin_seconds, audio_seconds = track_accuracy.run_pyin(
+            case["wav"], case["fmin"], case["fmax"])
+        stored.parent.mkdir(parents=True, exist_ok=True)
+        np.savez(stored, time=pyin_time, freq=pyin_freq, seconds=pyin_seconds, audio_seconds=audio_seconds)
+    ref_time, ref_freq = track_accuracy.load_truth(case["truth"])
+    ours_time, ours_freq = track_accuracy.load_ambit_csv(case["ours"])
+    return {
+        "name": case["name"],
+        "audio_seconds": audio_seconds,
+        "pyin_seconds": pyin_seconds,
+        "voiced_reference_frames": int(np.count_nonzero(ref_freq > 0)),
+        "ours": track_accuracy.melody_metrics(ref_time, ref_freq, ours_time, ours_freq),
+        "pyin": track_accuracy.melody_metrics(ref_time, ref_freq, pyin_time, pyin_freq),
+    }
+
+
 def percent(value):
     return f"{100.0 * value:.1f}"
 
@@ -106,6 +142,9 @@ def main():
     parser.add_argument("--write", help="Markdown file whose tracker-accuracy section to replace")
     parser.add_argument("--tracker-command", help="command template instead of `AMBIT track {wav} --csv`, "
                         "e.g. 'target/release/examples/track_wav {wav}' (CSV or JSON output)")
+    parser.add_argument("--pyin-cache", help="directory to keep librosa.pyin's tracks in between runs "
+                        "(development only: the report then says pyin was not run live)")
+    parser.add_argument("--json", help="write every case's metrics to this JSON file")
     arguments = parser.parse_args()
     eval_dir = Path(arguments.eval_dir)
 
@@ -125,7 +164,7 @@ def main():
                 "fmin": arguments.fmin,
                 "fmax": arguments.fmax,
             }
-            result = track_accuracy.evaluate_case(case)
+            result = evaluate_case(case, arguments.pyin_cache)
             result.update(condition=entry["condition"], voice_type=entry["voice_type"],
                           clean_singing=entry["clean_singing"] == "true")
             pyin_seconds += result["pyin_seconds"]
@@ -139,14 +178,17 @@ def main():
         if (vocadito_dir / "vocadito_1.wav").exists():
             ours_csv = Path(scratch) / "vocadito_1.ambit.csv"
             run_ambit(arguments.ambit, vocadito_dir / "vocadito_1.wav", ours_csv, arguments.fmin, arguments.fmax, arguments.tracker_command)
-            vocadito = track_accuracy.evaluate_case({
+            vocadito = evaluate_case({
                 "name": "vocadito_1",
                 "wav": str(vocadito_dir / "vocadito_1.wav"),
                 "truth": str(vocadito_dir / "vocadito_1_f0.csv"),
                 "ours": str(ours_csv),
                 "fmin": arguments.fmin,
                 "fmax": arguments.fmax,
-            })
+            }, arguments.pyin_cache)
+
+    if arguments.json:
+        Path(arguments.json).write_text(json.dumps({"cases": results, "vocadito": vocadito}, indent=1))
 
     by_condition = OrderedDict()
     for result in results:
@@ -193,6 +235,8 @@ def main():
         f"librosa.pyin {pyin_seconds:.1f} s (analysis only), on {audio_seconds:.0f} s of audio.",
         "",
     ]
+    if arguments.pyin_cache:
+        report += ["**Development run: librosa.pyin's tracks were read from a cache, not run live.**", ""]
     if vocadito is not None:
         report += [
             "### Real singing: vocadito #1",

@@ -372,6 +372,29 @@ fn streaming_gives_the_offline_frames_exactly() {
 }
 
 #[test]
+fn streaming_gives_the_offline_frames_exactly_over_a_long_signal() {
+    // 170 s (17 000 frames): the offline tracker analyses and band-limits
+    // the signal in rounds of 16 384 frames, so this crosses a round
+    // boundary, where the low-pass filter's state and the samples kept for
+    // the next round must carry over exactly.
+    let phrase = phrase(22_050);
+    let samples: Vec<f32> = phrase.iter().copied().cycle().take(170 * 22_050).collect();
+    let config = TrackConfig::default();
+    let offline = track::track_samples(&samples, 22_050, &config).expect("offline");
+    assert_eq!(offline.frames.len(), 17_000);
+    let mut tracker = StreamingTracker::new(22_050, &config).expect("a valid config");
+    let mut streamed = Vec::new();
+    for piece in samples.chunks(4_410) {
+        streamed.extend(tracker.push(piece));
+    }
+    streamed.extend(tracker.finish());
+    assert!(
+        streamed == offline.frames,
+        "streamed and offline frames differ"
+    );
+}
+
+#[test]
 fn streaming_frames_arrive_within_the_stated_latency() {
     let samples = phrase(22_050);
     let config = TrackConfig::default();

@@ -4,14 +4,16 @@
 //! Architecture invariant: track takes samples, not files (apart from the
 //! thin [`track_file`]/[`track_files`] wrappers over `audio::decode_file`),
 //! and knows nothing about notes, ranges or singers. Every frame's analysis
-//! is a pure function of the samples around it and the [`TrackConfig`]; the
-//! offline tracker is the streaming tracker run over the whole signal, so the
-//! two give identical frames.
+//! is a pure function of the (causally low-passed) samples up to its end and
+//! the [`TrackConfig`]; the offline tracker is the streaming tracker run over
+//! the whole signal, so the two give identical frames.
 //!
-//! Layout: `yin` analyses one frame (FFT difference function, candidates);
-//! `hmm` decodes pitch × voicing; `summary` turns a track into the figures a
-//! person reads (duration, voiced share, median and stable pitches).
+//! Layout: `filter` band-limits the signal; `yin` analyses one frame (FFT
+//! difference function, candidates); `hmm` decodes pitch × voicing;
+//! `summary` turns a track into the figures a person reads (duration, voiced
+//! share, median and stable pitches).
 
+mod filter;
 mod hmm;
 mod summary;
 pub mod yin;
@@ -92,6 +94,17 @@ pub struct TrackConfig {
     /// path can stay on the sub-octave for ever; below 1 the path can always
     /// pass through unvoiced frames (see docs/METHODS.md).
     pub candidate_trust: f64,
+    /// Viterbi beam, in nats (natural-log units of probability): after each
+    /// frame, HMM states this far below the best are dropped. `None` keeps
+    /// every state that can still be on the best path (exact decoding).
+    /// See docs/METHODS.md for the measured effect.
+    pub viterbi_beam_nats: Option<f64>,
+    /// Cutoff of the low-pass filter in front of the analysis, Hz (4th-order
+    /// Butterworth). It is raised to 2 × `fmax_hz` when below it, so the
+    /// first two harmonics of the highest f0 searched always pass, and no
+    /// filter runs when the cutoff reaches 0.9 × Nyquist. `None` analyses the
+    /// full band. See docs/METHODS.md for why and what it gains.
+    pub lowpass_hz: Option<f64>,
 }
 
 impl Default for TrackConfig {
@@ -110,6 +123,8 @@ impl Default for TrackConfig {
             voicing_gate_db: Some(-70.0),
             octave_jump_probability: 0.0,
             candidate_trust: 0.9,
+            viterbi_beam_nats: Some(80.0),
+            lowpass_hz: Some(5000.0),
         }
     }
 }
@@ -213,6 +228,18 @@ pub fn validate(sample_rate: u32, config: &TrackConfig) -> Result<(), TrackError
     {
         return bad("the Viterbi lag must be zero or more seconds".into());
     }
+    if let Some(cutoff) = config.lowpass_hz
+        && !(cutoff.is_finite() && cutoff > 0.0)
+    {
+        return bad(format!(
+            "the low-pass cutoff {cutoff} Hz must be a positive frequency"
+        ));
+    }
+    if let Some(beam) = config.viterbi_beam_nats
+        && !(beam.is_finite() && beam > 0.0)
+    {
+        return bad("the Viterbi beam must be a positive number of nats".into());
+    }
     if let Some(gate) = config.voicing_gate_db
         && !gate.is_finite()
     {
@@ -229,6 +256,8 @@ struct Plan {
     /// Frame index in the frame buffer that sits on the frame's centre time.
     centre_offset: usize,
     hmm: hmm::HmmParameters,
+    /// Effective low-pass cutoff, when a filter runs.
+    lowpass_hz: Option<f64>,
 }
 
 impl Plan {
@@ -250,7 +279,13 @@ impl Plan {
         let lag_frames = (config.viterbi_lag_seconds / config.hop_seconds)
             .round()
             .min(u32::MAX as f64) as usize;
+        let nyquist = f64::from(sample_rate) / 2.0;
+        let lowpass_hz = config
+            .lowpass_hz
+            .map(|cutoff| cutoff.max(2.0 * config.fmax_hz))
+            .filter(|&cutoff| cutoff < 0.9 * nyquist);
         Ok(Plan {
+            lowpass_hz,
             config: *config,
             layout,
             centre_offset: layout.window_start + layout.integration_samples / 2,
@@ -263,8 +298,15 @@ impl Plan {
                 lag_frames,
                 octave_jump_probability: config.octave_jump_probability,
                 candidate_trust: config.candidate_trust,
+                beam_nats: config.viterbi_beam_nats.unwrap_or(f64::INFINITY),
+                exhaustive: false,
             },
         })
+    }
+
+    fn low_pass(&self) -> Option<filter::LowPass> {
+        self.lowpass_hz
+            .map(|cutoff| filter::LowPass::new(cutoff, self.layout.sample_rate))
     }
 
     /// Sample index of frame `index`'s centre: frames sit at exact multiples
@@ -312,17 +354,23 @@ fn fill_frame(
     frame: &mut [f32],
 ) {
     let start = plan.frame_start(index);
-    for (offset, slot) in frame.iter_mut().enumerate() {
-        let absolute = start + offset as i64;
-        *slot = if absolute < 0 || absolute >= signal_end {
-            0.0
-        } else {
-            usize::try_from(absolute - source_start)
-                .ok()
-                .and_then(|position| source.get(position))
-                .copied()
-                .unwrap_or(0.0)
-        };
+    let end = start + frame.len() as i64;
+    // Absolute samples both in the signal and in `source`, clipped to the frame.
+    let first = start.max(0).max(source_start).min(end);
+    let last = end
+        .min(signal_end)
+        .min(source_start + source.len() as i64)
+        .max(first);
+    frame.fill(0.0);
+    if let (Ok(into), Ok(from), Ok(count)) = (
+        usize::try_from(first - start),
+        usize::try_from(first - source_start),
+        usize::try_from(last - first),
+    ) && let (Some(to), Some(samples)) = (
+        frame.get_mut(into..into + count),
+        source.get(from..from + count),
+    ) {
+        to.copy_from_slice(samples);
     }
 }
 
@@ -457,6 +505,13 @@ pub fn track_samples(
     }
     let frame_count = plan.frame_count(samples.len());
     let signal_end = samples.len() as i64;
+    // The band-limited signal is made round by round, one causal pass in
+    // order (as the streaming tracker filters sample by sample), holding
+    // only the samples the round's frames need: absolute samples
+    // `filtered_start .. filtered_start + filtered.len()`.
+    let mut low_pass = plan.low_pass();
+    let mut filtered: Vec<f32> = Vec::new();
+    let mut filtered_start: i64 = 0;
     let mut decision = Decision::new(&plan);
     let mut frames = Vec::with_capacity(frame_count);
     let block_count = frame_count.div_ceil(BLOCK_FRAMES);
@@ -465,6 +520,31 @@ pub fn track_samples(
     let mut first_block = 0;
     while first_block < block_count {
         let last_block = (first_block + blocks_per_round).min(block_count);
+        let (source, source_start): (&[f32], i64) = match &mut low_pass {
+            Some(low_pass) => {
+                let first_frame = first_block * BLOCK_FRAMES;
+                let last_frame = (last_block * BLOCK_FRAMES).min(frame_count).max(1) - 1;
+                let needed_from = plan.frame_start(first_frame).clamp(0, signal_end);
+                let needed_to = (plan.frame_start(last_frame) + plan.layout.frame_samples as i64)
+                    .clamp(0, signal_end);
+                let stale = usize::try_from(needed_from - filtered_start)
+                    .unwrap_or(0)
+                    .min(filtered.len());
+                filtered.drain(..stale);
+                filtered_start += stale as i64;
+                let filtered_end = filtered_start + filtered.len() as i64;
+                if let (Ok(from), Ok(to)) =
+                    (usize::try_from(filtered_end), usize::try_from(needed_to))
+                    && let Some(fresh) = samples.get(from..to)
+                {
+                    let begin = filtered.len();
+                    filtered.extend_from_slice(fresh);
+                    low_pass.process(&mut filtered[begin..]);
+                }
+                (&filtered[..], filtered_start)
+            }
+            None => (samples, 0),
+        };
         let analysed: Vec<(Vec<Observation>, Vec<Candidate>, Vec<usize>)> = (first_block
             ..last_block)
             .into_par_iter()
@@ -483,7 +563,7 @@ pub fn track_samples(
                     let mut bounds = Vec::with_capacity(end - start + 1);
                     bounds.push(0);
                     for index in start..end {
-                        fill_frame(&plan, index, samples, 0, signal_end, frame);
+                        fill_frame(&plan, index, source, source_start, signal_end, frame);
                         observations.push(observe(&plan, analyser, frame, &mut candidates));
                         bounds.push(candidates.len());
                     }
@@ -540,6 +620,7 @@ pub struct StreamingTracker {
     candidates: Vec<Candidate>,
     provisional: Option<Frame>,
     non_finite: u64,
+    low_pass: Option<filter::LowPass>,
 }
 
 impl StreamingTracker {
@@ -556,6 +637,7 @@ impl StreamingTracker {
             candidates: Vec::new(),
             provisional: None,
             non_finite: 0,
+            low_pass: plan.low_pass(),
             plan,
         })
     }
@@ -588,6 +670,7 @@ impl StreamingTracker {
     pub fn push(&mut self, samples: &[f32]) -> Vec<Frame> {
         let mut out = Vec::new();
         self.buffer.reserve(samples.len());
+        let first_new = self.buffer.len();
         for &sample in samples {
             if sample.is_finite() {
                 self.buffer.push(sample);
@@ -595,6 +678,9 @@ impl StreamingTracker {
                 self.non_finite += 1;
                 self.buffer.push(0.0);
             }
+        }
+        if let Some(low_pass) = &mut self.low_pass {
+            low_pass.process(&mut self.buffer[first_new..]);
         }
         self.received += samples.len() as i64;
         // Analyse every frame whose samples have all arrived.
