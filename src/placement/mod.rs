@@ -870,7 +870,9 @@ pub fn split_divisi_lines(
 /// both allowed, and puts the higher `height` on top. Each swap raises the
 /// upper line's summed height, so this ends; at most O(n²) pair checks per
 /// pass. `height` is any ordering key the caller chooses (e.g. the centre of
-/// each member's comfort zone); placement does not interpret it.
+/// each member's comfort zone); placement does not interpret it. Only
+/// `upper` and `lower` change: `objective` stays (the swaps keep it), and
+/// `split.placement` still shows the solver's own tie choice.
 pub fn raise_tied_divisi(
     split: &mut DivisiSplit,
     upper_fit: &[Option<f64>],
