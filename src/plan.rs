@@ -1,9 +1,10 @@
 //! Programme planning: turns a section-fit matrix and the director's
 //! constraints, given by name ("T1=3..5", "Ada=A1"), into a placement
-//! problem.
+//! problem, and after the placement asks for each divisi split.
 //!
 //! Architecture invariant: no analysis of its own. Fits come from `fit`, the
-//! optimum from `placement`; this module only maps names to indices and
+//! optimum and the divisi splits from `placement`; this module only maps
+//! names to indices and
 //! turns each pair's fit details into the short note and the beyond-range
 //! flag that placement passes into its explanations. Shared by the CLI, the
 //! report and the app so that all three pose the same problem.
@@ -189,6 +190,8 @@ pub struct ProgrammePlan {
     pub matrix: crate::fit::SectionFitMatrix,
     pub constraints: PlanConstraints,
     pub placement: crate::placement::Placement,
+    /// Who sings which line of each divisi, per piece and section.
+    pub divisi: Vec<DivisiChoice>,
     pub pieces: Vec<PiecePlan>,
     pub cautions: Vec<String>,
 }
@@ -206,20 +209,158 @@ pub enum ProgrammeError {
     Transpose(#[from] crate::transpose::TransposeError),
 }
 
-/// The section-fit matrix over a programme and the optimal placement under
-/// `constraints`: the part of [`plan_programme`] that `ambit place` needs
-/// without a report.
+/// Who sings the upper and who the lower line of one section's divisi in
+/// one piece.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+pub struct DivisiChoice {
+    pub piece: String,
+    pub section: String,
+    /// The labels of the two lines ("Soprano (upper)", "Soprano I").
+    pub upper_line: String,
+    pub lower_line: String,
+    /// The section's placed members on each line, in roster order.
+    pub upper: Vec<String>,
+    pub lower: Vec<String>,
+    /// The members' total fit over the two lines (the split's objective).
+    pub total_fit: f64,
+    /// Set when an even split within every member's range was impossible
+    /// and the split was chosen with the beyond-range lines penalised
+    /// instead of forbidden.
+    pub note: Option<String>,
+}
+
+/// The section-fit matrix, the optimal placement and each divisi split:
+/// what [`place_programme`] returns.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+pub struct PlacedProgramme {
+    pub matrix: crate::fit::SectionFitMatrix,
+    pub placement: crate::placement::Placement,
+    pub divisi: Vec<DivisiChoice>,
+}
+
+/// For every piece and every section that divides in it, the even split of
+/// the section's placed members between the upper and the lower line that
+/// maximises their total fit (`placement::split_divisi_lines`, the same
+/// exact solver as the placement). Each member's fit to each line comes
+/// from `fit::fit_profile`; under `BeyondRangePolicy::NotAllowed` a line
+/// beyond a member's range is not allowed, and when that leaves no even
+/// split the lines are penalised instead, with a note. Among splits of
+/// equal total fit the higher voices (comfort-zone centre) take the upper
+/// line (`placement::raise_tied_divisi`). Sections with no members get no
+/// choice.
+pub fn divisi_choices(
+    roster: &crate::roster::Roster,
+    matrix: &crate::fit::SectionFitMatrix,
+    placement: &crate::placement::Placement,
+    config: &ProgrammeConfig,
+) -> Result<Vec<DivisiChoice>, crate::placement::PlacementError> {
+    use crate::fit::{BeyondRangePolicy, fit_profile, profile_notes};
+    use crate::placement::{DivisiBalance, raise_tied_divisi, split_divisi_lines};
+    let fit_config = &config.section_fit.fit;
+    let mut choices = Vec::new();
+    for mapping in &matrix.mappings {
+        for (section_index, (section, sings)) in mapping.sections.iter().enumerate() {
+            let crate::sections::SectionSings::Divisi { upper, lower } = sings else {
+                continue;
+            };
+            let members: Vec<&crate::roster::Singer> = placement
+                .assignments
+                .iter()
+                .filter(|assignment| assignment.section_index == section_index)
+                .filter_map(|assignment| roster.singers.get(assignment.singer_index))
+                .collect();
+            if members.is_empty() {
+                continue;
+            }
+            let names: Vec<String> = members.iter().map(|singer| singer.name.clone()).collect();
+            let line_fits = |line: &crate::sections::Line| {
+                let profile = profile_notes(&line.part.notes, fit_config);
+                members
+                    .iter()
+                    .map(|singer| fit_profile(singer, &profile, 0, fit_config))
+                    .collect::<Vec<_>>()
+            };
+            let (upper_fits, lower_fits) = (line_fits(upper), line_fits(lower));
+            let allowed = |fits: &[crate::fit::PartFit], strict: bool| {
+                fits.iter()
+                    .map(|fit| (!(strict && fit.beyond_range)).then_some(fit.fit))
+                    .collect::<Vec<_>>()
+            };
+            let strict = config.section_fit.beyond_range == BeyondRangePolicy::NotAllowed;
+            let solve = |strict: bool| {
+                split_divisi_lines(
+                    &names,
+                    &allowed(&upper_fits, strict),
+                    &allowed(&lower_fits, strict),
+                    DivisiBalance::Even,
+                    &config.placement,
+                )
+            };
+            let (mut split, note) = match solve(strict) {
+                Ok(split) => (split, None),
+                Err(error) if strict => (
+                    solve(false)?,
+                    Some(format!(
+                        "no even split keeps every singer within range ({error}); \
+                         beyond-range lines penalised instead"
+                    )),
+                ),
+                Err(error) => return Err(error),
+            };
+            // Equal fits leave the split open; the higher voices then take
+            // the upper line (first sopranos and first tenors are the higher
+            // voices; common practice), by the centre of the comfort zone.
+            let heights: Vec<f64> = members
+                .iter()
+                .map(|singer| (singer.comfort_low_midi + singer.comfort_high_midi) / 2.0)
+                .collect();
+            let strict_fits = note.is_none() && strict;
+            raise_tied_divisi(
+                &mut split,
+                &allowed(&upper_fits, strict_fits),
+                &allowed(&lower_fits, strict_fits),
+                &heights,
+            );
+            let named = |indices: &[usize]| {
+                indices
+                    .iter()
+                    .filter_map(|&index| names.get(index).cloned())
+                    .collect()
+            };
+            choices.push(DivisiChoice {
+                piece: mapping.piece.clone(),
+                section: section.to_string(),
+                upper_line: upper.label.clone(),
+                lower_line: lower.label.clone(),
+                upper: named(&split.upper),
+                lower: named(&split.lower),
+                total_fit: split.objective,
+                note,
+            });
+        }
+    }
+    Ok(choices)
+}
+
+/// The section-fit matrix over a programme, the optimal placement under
+/// `constraints` and the divisi split of every divided section: the part
+/// of [`plan_programme`] that `ambit place` needs without a report.
 pub fn place_programme(
     roster: &crate::roster::Roster,
     programme: &[crate::score::Piece],
     layout: &crate::sections::Layout,
     constraints: &PlanConstraints,
     config: &ProgrammeConfig,
-) -> Result<(crate::fit::SectionFitMatrix, crate::placement::Placement), ProgrammeError> {
+) -> Result<PlacedProgramme, ProgrammeError> {
     let matrix = crate::fit::section_fit_matrix(roster, programme, layout, &config.section_fit)?;
     let problem = placement_problem(&matrix, constraints)?;
     let placement = crate::placement::place(&problem, &config.placement)?;
-    Ok((matrix, placement))
+    let divisi = divisi_choices(roster, &matrix, &placement, config)?;
+    Ok(PlacedProgramme {
+        matrix,
+        placement,
+        divisi,
+    })
 }
 
 /// Plans a programme: the section-fit matrix, the optimal placement under
@@ -235,7 +376,11 @@ pub fn plan_programme(
     config: &ProgrammeConfig,
 ) -> Result<ProgrammePlan, ProgrammeError> {
     use crate::tessitura::{PitchDistribution, Weight, analyse_piece};
-    let (matrix, placement) = place_programme(roster, programme, layout, constraints, config)?;
+    let PlacedProgramme {
+        matrix,
+        placement,
+        divisi,
+    } = place_programme(roster, programme, layout, constraints, config)?;
     let mut placed = roster.clone();
     for (singer, assignment) in placed.singers.iter_mut().zip(&placement.assignments) {
         singer.section = Some(assignment.section.clone());
@@ -282,6 +427,7 @@ pub fn plan_programme(
         matrix,
         constraints: constraints.clone(),
         placement,
+        divisi,
         pieces,
         cautions: crate::cautions::cautions(),
     })

@@ -10,11 +10,10 @@ use clap::Args;
 use serde::Serialize;
 
 use ambit::cautions::cautions;
-use ambit::fit::SectionFitMatrix;
 use ambit::placement::{Placement, PlacementError, RiskReason, SizeLimit};
 use ambit::plan::{
-    PlanConstraints, ProgrammeConfig, ProgrammeError, ProgrammePlan, place_programme,
-    plan_programme,
+    DivisiChoice, PlacedProgramme, PlanConstraints, ProgrammeConfig, ProgrammeError, ProgrammePlan,
+    place_programme, plan_programme,
 };
 use ambit::report::{ReportDocument, write_report};
 
@@ -66,7 +65,7 @@ pub struct PlaceArgs {
 /// What was solved: the whole plan (for a report) or just the placement.
 enum Outcome {
     Plan(Box<ProgrammePlan>),
-    Placed(Box<(SectionFitMatrix, Placement)>),
+    Placed(Box<PlacedProgramme>),
 }
 
 #[derive(Serialize)]
@@ -78,6 +77,8 @@ struct PlaceJson {
     sections: Vec<SectionJson>,
     at_risk: Vec<AtRiskJson>,
     cautions: Vec<String>,
+    /// Who sings the upper and who the lower line of each divisi.
+    divisi: Vec<DivisiChoice>,
 }
 
 #[derive(Serialize)]
@@ -219,9 +220,9 @@ pub fn run(arguments: PlaceArgs) -> anyhow::Result<()> {
         }
         Err(error) => return Err(error.into()),
     };
-    let (matrix, placement) = match &outcome {
-        Outcome::Plan(plan) => (&plan.matrix, &plan.placement),
-        Outcome::Placed(placed) => (&placed.0, &placed.1),
+    let (matrix, placement, divisi) = match &outcome {
+        Outcome::Plan(plan) => (&plan.matrix, &plan.placement, &plan.divisi),
+        Outcome::Placed(placed) => (&placed.matrix, &placed.placement, &placed.divisi),
     };
     if let (Some(path), Outcome::Plan(plan)) = (&arguments.report, &outcome) {
         let names: Vec<String> = score_paths
@@ -298,6 +299,7 @@ pub fn run(arguments: PlaceArgs) -> anyhow::Result<()> {
                 })
                 .collect(),
             cautions: cautions(),
+            divisi: divisi.clone(),
         };
         serde_json::to_value(&json)?
     };
@@ -315,11 +317,11 @@ pub fn run(arguments: PlaceArgs) -> anyhow::Result<()> {
     if arguments.json {
         write_stdout(&format!("{}\n", serde_json::to_string_pretty(&json)?))
     } else {
-        write_stdout(&table(placement)?)
+        write_stdout(&table(placement, divisi)?)
     }
 }
 
-fn table(placement: &Placement) -> Result<String, std::fmt::Error> {
+fn table(placement: &Placement, divisi: &[DivisiChoice]) -> Result<String, std::fmt::Error> {
     let mut out = String::new();
     let width = placement
         .assignments
@@ -357,6 +359,7 @@ fn table(placement: &Placement) -> Result<String, std::fmt::Error> {
         writeln!(out, "balance penalty {:.1}", placement.balance_penalty)?;
     }
     write_at_risk(&mut out, placement)?;
+    write_divisi(&mut out, divisi)?;
     writeln!(out)?;
     for caution in cautions() {
         writeln!(out, "note: {caution}")?;
@@ -381,6 +384,35 @@ pub(super) fn write_at_risk(out: &mut String, placement: &Placement) -> std::fmt
             risk.fit,
             reasons.join(", ")
         )?;
+    }
+    Ok(())
+}
+
+/// The "divisi:" block: per piece and section, who sings which line
+/// (nothing when no section divides).
+fn write_divisi(out: &mut String, divisi: &[DivisiChoice]) -> std::fmt::Result {
+    if divisi.is_empty() {
+        return Ok(());
+    }
+    writeln!(out)?;
+    writeln!(out, "divisi:")?;
+    for choice in divisi {
+        writeln!(out, "  {}, {}:", choice.piece, choice.section)?;
+        writeln!(
+            out,
+            "    upper line ({}): {}",
+            choice.upper_line,
+            choice.upper.join(", ")
+        )?;
+        writeln!(
+            out,
+            "    lower line ({}): {}",
+            choice.lower_line,
+            choice.lower.join(", ")
+        )?;
+        if let Some(note) = &choice.note {
+            writeln!(out, "    note: {note}")?;
+        }
     }
     Ok(())
 }

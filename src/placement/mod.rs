@@ -864,5 +864,55 @@ pub fn split_divisi_lines(
     })
 }
 
+/// Among splits of equal total fit, the one with the higher voices on the
+/// upper line: swaps an upper-line member with a lower-line member whenever
+/// the swap leaves the total fit unchanged (within `1e-9` relative), keeps
+/// both allowed, and puts the higher `height` on top. Each swap raises the
+/// upper line's summed height, so this ends; at most O(n²) pair checks per
+/// pass. `height` is any ordering key the caller chooses (e.g. the centre of
+/// each member's comfort zone); placement does not interpret it. Only
+/// `upper` and `lower` change: `objective` stays (the swaps keep it), and
+/// `split.placement` still shows the solver's own tie choice.
+pub fn raise_tied_divisi(
+    split: &mut DivisiSplit,
+    upper_fit: &[Option<f64>],
+    lower_fit: &[Option<f64>],
+    height: &[f64],
+) {
+    let value = |fits: &[Option<f64>], member: usize| fits.get(member).copied().flatten();
+    let tolerance = 1e-9 * split.objective.abs().max(1.0);
+    loop {
+        let mut swapped = false;
+        for upper_slot in 0..split.upper.len() {
+            for lower_slot in 0..split.lower.len() {
+                let (up, low) = (split.upper[upper_slot], split.lower[lower_slot]);
+                let (Some(up_here), Some(low_here), Some(up_there), Some(low_there)) = (
+                    value(upper_fit, up),
+                    value(lower_fit, low),
+                    value(lower_fit, up),
+                    value(upper_fit, low),
+                ) else {
+                    continue;
+                };
+                let change = (up_there + low_there) - (up_here + low_here);
+                let higher = match (height.get(low), height.get(up)) {
+                    (Some(low_height), Some(up_height)) => low_height > up_height,
+                    _ => false,
+                };
+                if change.abs() <= tolerance && higher {
+                    split.upper[upper_slot] = low;
+                    split.lower[lower_slot] = up;
+                    swapped = true;
+                }
+            }
+        }
+        if !swapped {
+            break;
+        }
+    }
+    split.upper.sort_unstable();
+    split.lower.sort_unstable();
+}
+
 #[cfg(test)]
 mod tests;

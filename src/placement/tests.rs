@@ -457,6 +457,29 @@ fn divisi_even_split_puts_the_high_voices_on_top() {
 }
 
 #[test]
+fn tied_divisi_splits_put_the_higher_voices_on_top_and_keep_the_total() {
+    // By hand: members 0–2 fit both lines equally (80, 90, 70), so any even
+    // split of them is optimal; member 3 fits the lower line much better
+    // (40 vs 95) and must stay there whatever its height.
+    let members = names("member", 4);
+    let upper = [Some(80.0), Some(90.0), Some(70.0), Some(40.0)];
+    let lower = [Some(80.0), Some(90.0), Some(70.0), Some(95.0)];
+    let heights = [60.0, 64.0, 67.0, 70.0];
+    let mut split =
+        split_divisi_lines(&members, &upper, &lower, DivisiBalance::Even, &config()).unwrap();
+    let objective = split.objective;
+    raise_tied_divisi(&mut split, &upper, &lower, &heights);
+    // The two highest of the tied members (2 at 67, 1 at 64) go up.
+    assert_eq!(
+        (split.upper.clone(), split.lower.clone()),
+        (vec![1, 2], vec![0, 3])
+    );
+    let total: f64 = split.upper.iter().map(|&m| upper[m].unwrap()).sum::<f64>()
+        + split.lower.iter().map(|&m| lower[m].unwrap()).sum::<f64>();
+    assert_eq!(total, objective);
+}
+
+#[test]
 fn what_if_reports_the_broken_minimum() {
     let placement_problem = problem(
         vec![vec![Some(80.0), Some(60.0)], vec![Some(40.0), Some(70.0)]],

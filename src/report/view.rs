@@ -39,6 +39,8 @@ pub struct Page {
     pub cautions: Vec<String>,
     pub sections: Vec<SectionRow>,
     pub placement: Vec<PlacementRow>,
+    /// Who sings which line of each divisi (empty: no section divides).
+    pub divisi: Vec<DivisiRow>,
     pub heatmap: Heatmap,
     pub section_charts: Vec<SectionChart>,
     pub pieces: Vec<PieceView>,
@@ -90,6 +92,17 @@ pub struct PlacementRow {
     pub colour: Cell,
     pub explanation: String,
     pub flags: Vec<String>,
+}
+
+/// One section's divisi in one piece: who sings the upper and who the lower line.
+pub struct DivisiRow {
+    pub piece: String,
+    pub section: String,
+    pub upper_line: String,
+    pub upper: String,
+    pub lower_line: String,
+    pub lower: String,
+    pub note: String,
 }
 
 pub struct Heatmap {
@@ -962,6 +975,19 @@ pub fn page(document: &ReportDocument) -> Page {
         cautions: plan.cautions.clone(),
         sections,
         placement: placement_rows(plan),
+        divisi: plan
+            .divisi
+            .iter()
+            .map(|choice| DivisiRow {
+                piece: choice.piece.clone(),
+                section: choice.section.clone(),
+                upper_line: choice.upper_line.clone(),
+                upper: choice.upper.join(", "),
+                lower_line: choice.lower_line.clone(),
+                lower: choice.lower.join(", "),
+                note: choice.note.clone().unwrap_or_default(),
+            })
+            .collect(),
         heatmap: heatmap(plan),
         section_charts: section_charts(plan, &axis),
         pieces: pieces(plan),
