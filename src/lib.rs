@@ -26,4 +26,5 @@ pub mod synth;
 pub mod tessitura;
 pub mod track;
 pub mod transpose;
+pub mod views;
 pub mod voice;

@@ -8,15 +8,15 @@ use std::path::PathBuf;
 
 use anyhow::{Context, bail};
 use clap::Args;
-use serde::Serialize;
 
 use ambit::cautions::cautions;
 use ambit::fit::{SectionFitConfig, section_fit_matrix};
-use ambit::placement::{Placement, PlacementConfig, PlacementError, RiskReason, SizeLimit, place};
+use ambit::placement::{Placement, PlacementConfig, PlacementError, SizeLimit, place};
 use ambit::plan::{PlanConstraints, placement_problem};
 use ambit::roster::read_roster;
 use ambit::score::{ReadOptions, read_score};
 use ambit::sections::Layout;
+use ambit::views::{place_view, reason_text};
 
 #[derive(Debug, Args)]
 pub struct PlaceArgs {
@@ -53,47 +53,6 @@ pub struct PlaceArgs {
     /// Print JSON instead of a table.
     #[arg(long)]
     pub json: bool,
-}
-
-#[derive(Serialize)]
-struct PlaceJson {
-    layout: Vec<String>,
-    section_fit: Vec<PairJson>,
-    assignments: Vec<AssignmentJson>,
-    objective: f64,
-    sections: Vec<SectionJson>,
-    at_risk: Vec<AtRiskJson>,
-    cautions: Vec<String>,
-}
-
-#[derive(Serialize)]
-struct PairJson {
-    singer: String,
-    section: String,
-    fit: Option<f64>,
-}
-
-#[derive(Serialize)]
-struct AssignmentJson {
-    singer: String,
-    section: String,
-    fit: f64,
-}
-
-#[derive(Serialize)]
-struct SectionJson {
-    section: String,
-    count: usize,
-    /// `null` for an empty section.
-    mean_fit: Option<f64>,
-}
-
-#[derive(Serialize)]
-struct AtRiskJson {
-    singer: String,
-    section: String,
-    fit: f64,
-    reasons: Vec<String>,
 }
 
 /// "NAME=VALUE", split at the last '=' so names may contain one.
@@ -137,13 +96,6 @@ fn pairs(option: &str, texts: &[String]) -> anyhow::Result<Vec<(String, String)>
             split_pair(option, text).map(|(name, section)| (name.to_string(), section.to_string()))
         })
         .collect()
-}
-
-fn reason_text(reason: &RiskReason) -> String {
-    match reason {
-        RiskReason::LowFit { threshold } => format!("fit below {threshold:.0}"),
-        RiskReason::BeyondRange => "sings beyond their range".into(),
-    }
 }
 
 pub fn run(arguments: PlaceArgs) -> anyhow::Result<()> {
@@ -205,58 +157,7 @@ pub fn run(arguments: PlaceArgs) -> anyhow::Result<()> {
         }
         Err(error) => return Err(error.into()),
     };
-    let json = {
-        let json = PlaceJson {
-            layout: matrix.sections.clone(),
-            section_fit: matrix
-                .singers
-                .iter()
-                .zip(&matrix.fit)
-                .flat_map(|(singer, row)| {
-                    matrix
-                        .sections
-                        .iter()
-                        .zip(row)
-                        .map(|(section, fit)| PairJson {
-                            singer: singer.clone(),
-                            section: section.clone(),
-                            fit: *fit,
-                        })
-                })
-                .collect(),
-            assignments: placement
-                .assignments
-                .iter()
-                .map(|assignment| AssignmentJson {
-                    singer: assignment.singer.clone(),
-                    section: assignment.section.clone(),
-                    fit: assignment.fit,
-                })
-                .collect(),
-            objective: placement.objective,
-            sections: placement
-                .sections
-                .iter()
-                .map(|section| SectionJson {
-                    section: section.section.clone(),
-                    count: section.count,
-                    mean_fit: section.mean_fit,
-                })
-                .collect(),
-            at_risk: placement
-                .at_risk
-                .iter()
-                .map(|risk| AtRiskJson {
-                    singer: risk.singer.clone(),
-                    section: risk.section.clone(),
-                    fit: risk.fit,
-                    reasons: risk.reasons.iter().map(reason_text).collect(),
-                })
-                .collect(),
-            cautions: cautions(),
-        };
-        serde_json::to_value(&json)?
-    };
+    let json = serde_json::to_value(place_view(&matrix, &placement))?;
     if let (Some(name), Some(mut library)) = (&arguments.save_scenario, library) {
         let id = library.save_scenario(&ambit::library::ScenarioInput {
             name: name.clone(),
