@@ -30,9 +30,10 @@ import xml.etree.ElementTree as ElementTree
 from pathlib import Path
 
 from selenium import webdriver
-from selenium.common.exceptions import WebDriverException
+from selenium.common.exceptions import StaleElementReferenceException, WebDriverException
 from selenium.webdriver.common.by import By
 from selenium.webdriver.common.options import ArgOptions
+from selenium.webdriver.remote.file_detector import UselessFileDetector
 from selenium.webdriver.support.ui import Select, WebDriverWait
 
 ROOT = Path(__file__).resolve().parents[2]
@@ -89,6 +90,8 @@ class AppFlows(unittest.TestCase):
         cls.driver = webdriver.Remote(
             command_executor=f"http://127.0.0.1:{PORT}", options=options
         )
+        # Paths typed into the app's inputs are the app's own paths: never upload them.
+        cls.driver.file_detector = UselessFileDetector()
         cls.driver.set_window_size(1280, 860)
 
     @classmethod
@@ -131,10 +134,19 @@ class AppFlows(unittest.TestCase):
         return self.visible(f"screen-{screen}")
 
     def type_into(self, testid, text):
-        field = self.find(testid)
-        field.clear()
-        field.send_keys(text)
-        return field
+        # A screen may re-render while its data loads and replace the input:
+        # find it again and retype until it holds the text.
+        for _ in range(5):
+            try:
+                field = self.find(testid)
+                field.clear()
+                field.send_keys(text)
+                if field.get_attribute("value") == text:
+                    return field
+            except StaleElementReferenceException:
+                pass
+            time.sleep(0.5)
+        self.fail(f"could not type into {testid}")
 
     def shot(self, name):
         time.sleep(0.3)  # let charts finish drawing
@@ -143,21 +155,20 @@ class AppFlows(unittest.TestCase):
     def switch_ms(self, screen):
         """Milliseconds from the click on a nav button until the screen's root
         is laid out, timed inside the page (performance.now)."""
-        return self.driver.execute_async_script(
-            """
-            const [nav, target, done] = arguments;
+        script = """
+            const done = arguments[arguments.length - 1];
             const start = performance.now();
-            document.querySelector(`[data-testid="${nav}"]`).click();
+            document.querySelector('[data-testid="%s"]').click();
             const poll = () => {
-              const element = document.querySelector(`[data-testid="${target}"]`);
+              const element = document.querySelector('[data-testid="%s"]');
+              // offsetParent forces layout; timers (not animation frames,
+              // which an unfocused window under Xvfb may not get) poll.
               if (element && element.offsetParent !== null) done(performance.now() - start);
-              else requestAnimationFrame(poll);
+              else setTimeout(poll, 1);
             };
             poll();
-            """,
-            f"nav-{screen}",
-            f"screen-{screen}",
-        )
+        """ % (f"nav-{screen}", f"screen-{screen}")
+        return self.driver.execute_async_script(script)
 
     def app_memory_kib(self):
         """Resident memory (VmRSS, KiB) of the app process and of the whole
@@ -284,11 +295,11 @@ class AppFlows(unittest.TestCase):
         before = self.find(f"placement-section-{name}").text.strip()
         move = Select(self.find(f"place-move-{name}"))
         target = next(
-            option.get_attribute("value")
+            option.text.strip()
             for option in move.options
-            if option.get_attribute("value") and option.get_attribute("value") != before
+            if option.text.strip() and option.text.strip() != before
         )
-        move.select_by_value(target)
+        move.select_by_visible_text(target)
         self.visible("place-move-delta", 30)
         WebDriverWait(self.driver, 30).until(
             lambda _: self.find(f"placement-section-{name}").text.strip() == target
