@@ -4,10 +4,8 @@
 # Before the UI project exists (no ui/package.json), ui/index.html is copied
 # as a placeholder so that the app still compiles.
 set -euo pipefail
-
-root=$(cd "$(dirname "${BASH_SOURCE[0]}")/.." && pwd)
+source "$(dirname "${BASH_SOURCE[0]}")/common.sh"
 cd "$root/ui"
-say() { printf '\n== %s\n' "$*"; }
 
 if [ ! -f package.json ]; then
   say "no ui/package.json yet: placeholder ui/dist"

@@ -5,15 +5,12 @@
 # Expects the UI built (ui/dist) and the app built (cargo build -p ambit-app);
 # scripts/test-all.sh does both before calling this. Installs tauri-driver and
 # a selenium venv under $AMBIT_CACHE (default ~/.cache/ambit) on first use.
-# Screenshots of every screen go to docs/screenshots/.
+# Screenshots of every screen go to docs/screenshots/. With
+# AMBIT_MEASURE_START=1, also times cold starts to the roster
+# (tests/e2e/measure_start.py) for docs/PERFORMANCE.md.
 set -euo pipefail
-
-root=$(cd "$(dirname "${BASH_SOURCE[0]}")/.." && pwd)
-cache=${AMBIT_CACHE:-$HOME/.cache/ambit}
-export CARGO_TARGET_DIR=${CARGO_TARGET_DIR:-$cache/target}
+source "$(dirname "${BASH_SOURCE[0]}")/common.sh"
 cd "$root"
-
-say() { printf '\n== %s\n' "$*"; }
 
 app="$CARGO_TARGET_DIR/debug/ambit-app"
 [ -x "$app" ] || { echo "e2e: no app at $app; run cargo build -p ambit-app first" >&2; exit 1; }
@@ -41,7 +38,8 @@ fi
 
 # --- fixtures: a fresh library folder and one invented singer's audition -----
 work=$(mktemp -d)
-trap 'rm -rf "$work"' EXIT
+cleanup() { rm -rf "$work"; }
+trap cleanup EXIT
 say "synthesising the audition files"
 cargo run -q --example demo_audition_wavs -- "$work/audition" tenor >/dev/null
 
@@ -57,3 +55,8 @@ export NO_AT_BRIDGE=1
 
 say "e2e flows (Xvfb)"
 xvfb-run -a -s "-screen 0 1280x900x24" "$venv/bin/python" tests/e2e/test_app.py
+if [ "${AMBIT_MEASURE_START:-}" = 1 ]; then
+  export AMBIT_START_RUNS=${AMBIT_START_RUNS:-5}
+  say "cold start to the roster (existing library), $AMBIT_START_RUNS runs"
+  (cd tests/e2e && xvfb-run -a -s "-screen 0 1280x900x24" "$venv/bin/python" measure_start.py)
+fi

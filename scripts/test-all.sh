@@ -11,31 +11,14 @@
 # rebuilds what changed.
 set -euo pipefail
 
-root=$(cd "$(dirname "${BASH_SOURCE[0]}")/.." && pwd)
-cache=${AMBIT_CACHE:-$HOME/.cache/ambit}
-mkdir -p "$cache"
+source "$(dirname "${BASH_SOURCE[0]}")/common.sh"
 cd "$root"
 
-say() { printf '\n== %s\n' "$*"; }
-
 # --- system packages -------------------------------------------------------
-# The engine and references: python3, python3-venv. The desktop app (Tauri 2):
-# libwebkit2gtk-4.1-dev, build-essential, pkg-config, libssl-dev; recording
-# (cpal/ALSA): libasound2-dev; the e2e suite: xvfb, xauth, webkit2gtk-driver.
-apt_packages=(python3 python3-venv pkg-config build-essential libssl-dev
-  libwebkit2gtk-4.1-dev libasound2-dev xvfb xauth webkit2gtk-driver)
-command -v npm >/dev/null 2>&1 || apt_packages+=(nodejs npm)
-missing=()
-for package in "${apt_packages[@]}"; do
-  dpkg -s "$package" >/dev/null 2>&1 || missing+=("$package")
-done
-if ((${#missing[@]})); then
-  say "installing system packages: ${missing[*]}"
-  sudo_cmd=()
-  [ "$(id -u)" -eq 0 ] || sudo_cmd=(sudo)
-  "${sudo_cmd[@]}" apt-get update -qq
-  DEBIAN_FRONTEND=noninteractive "${sudo_cmd[@]}" apt-get install -y -qq --no-install-recommends "${missing[@]}"
-fi
+# The engine and references (python3, python3-venv, pkg-config), the desktop
+# app (common.sh: WebKitGTK, build tools, ALSA, Node.js) and the e2e suite
+# (Xvfb, WebKitWebDriver).
+ensure_packages python3 python3-venv pkg-config "${app_packages[@]}" "${e2e_packages[@]}"
 
 # --- Python reference libraries --------------------------------------------
 requirements=tests/reference/requirements.txt
@@ -63,7 +46,6 @@ export NUMBA_CPU_NAME=${NUMBA_CPU_NAME:-haswell}
 "$root/scripts/build-ui.sh" --test
 
 # --- Rust ------------------------------------------------------------------
-export CARGO_TARGET_DIR=${CARGO_TARGET_DIR:-$cache/target}
 say "cargo fmt --check"
 cargo fmt --all --check
 say "cargo clippy"

@@ -237,3 +237,17 @@ pub fn place_view(matrix: &SectionFitMatrix, placement: &Placement) -> PlaceJson
         cautions: cautions(),
     }
 }
+
+/// The layout of a stored `ambit place --json` view, as a comma list
+/// ("S,A,T,B"), for labelling a saved scenario.
+pub fn place_view_layout(view: &serde_json::Value) -> Option<String> {
+    view.get("layout")
+        .and_then(|layout| layout.as_array())
+        .map(|sections| {
+            sections
+                .iter()
+                .filter_map(|section| section.as_str())
+                .collect::<Vec<_>>()
+                .join(",")
+        })
+}

@@ -11,18 +11,39 @@
 //!   minus that frame's centre time (median, max),
 //! - the wall-clock time to process one 10 ms block (median, max).
 //!
-//! `cargo run -p ambit-app --release --example live_latency`
+//! `cargo run -p ambit-app --example live_latency [LAG_SECONDS…]`
+//! measures the app's live configuration, then each Viterbi lag given.
 
 use std::time::Instant;
 
-use ambit_app::recorder::LivePitch;
+use ambit_app::recorder::{LivePitch, live_config};
 
 fn main() -> Result<(), String> {
+    let lags: Vec<f64> = std::env::args()
+        .skip(1)
+        .map(|text| {
+            text.parse::<f64>()
+                .map_err(|error| format!("{text}: {error}"))
+        })
+        .collect::<Result<_, _>>()?;
+    println!("== the app's live configuration");
+    measure(LivePitch::new(48_000)?)?;
+    for lag in lags {
+        println!("== Viterbi lag {:.0} ms", lag * 1000.0);
+        let config = ambit::track::TrackConfig {
+            viterbi_lag_seconds: lag,
+            ..live_config()
+        };
+        measure(LivePitch::with_config(48_000, &config)?)?;
+    }
+    Ok(())
+}
+
+fn measure(mut live: LivePitch) -> Result<(), String> {
     let rate = 48_000u32;
     let block = (rate / 100) as usize; // 10 ms
     let onset_seconds = 1.0;
     let total_seconds = 4.0;
-    let mut live = LivePitch::new(rate)?;
     let mut delivered = 0usize;
     let mut first_voiced: Option<f64> = None;
     let mut frame_lags = Vec::new();

@@ -18,10 +18,10 @@ use tauri::{Manager, Runtime};
 
 pub use state::AppState;
 
-/// The app with its state and every command, on any runtime (the real one,
-/// or the mock runtime in tests).
-pub fn builder<R: Runtime>(state: AppState) -> tauri::Builder<R> {
-    tauri::Builder::<R>::new()
+/// `builder` with the app's state and every command, on any runtime (the
+/// real one, or `tauri::test::mock_builder()` in tests).
+pub fn with_commands<R: Runtime>(builder: tauri::Builder<R>, state: AppState) -> tauri::Builder<R> {
+    builder
         .manage(state)
         .invoke_handler(tauri::generate_handler![
             commands::library::library_info,
@@ -60,7 +60,7 @@ pub fn builder<R: Runtime>(state: AppState) -> tauri::Builder<R> {
 /// Starts the desktop app: opens the library named by `AMBIT_LIBRARY`, or
 /// else the demo library in the app's data folder (seeded on first start).
 pub fn run() {
-    let result = builder::<tauri::Wry>(AppState::default())
+    let result = with_commands(tauri::Builder::default(), AppState::default())
         .plugin(tauri_plugin_dialog::init())
         .setup(|app| {
             let demo_folder = app.path().app_data_dir()?.join("demo-library");

@@ -60,7 +60,12 @@ pub struct LivePitch {
 
 impl LivePitch {
     pub fn new(sample_rate: u32) -> Result<LivePitch, String> {
-        StreamingTracker::new(sample_rate, &live_config())
+        LivePitch::with_config(sample_rate, &live_config())
+    }
+
+    /// With another tracker configuration (for measuring the trade-offs).
+    pub fn with_config(sample_rate: u32, config: &TrackConfig) -> Result<LivePitch, String> {
+        StreamingTracker::new(sample_rate, config)
             .map(|tracker| LivePitch { tracker })
             .map_err(|error| format!("live pitch at {sample_rate} Hz: {error}"))
     }

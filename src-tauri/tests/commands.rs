@@ -13,7 +13,7 @@ use ambit::library::Library;
 use ambit_app::AppState;
 use serde_json::{Value, json};
 use tauri::Listener;
-use tauri::test::{INVOKE_KEY, MockRuntime, mock_context, noop_assets};
+use tauri::test::{INVOKE_KEY, MockRuntime, mock_builder, mock_context, noop_assets};
 use tauri::webview::InvokeRequest;
 use tauri::{App, WebviewWindow};
 
@@ -30,7 +30,7 @@ fn app(seeded: bool) -> TestApp {
     if seeded {
         ambit_app::seed::seed_demo(&mut library).expect("the demo seeds");
     }
-    let app = ambit_app::builder::<MockRuntime>(AppState::opened(library, seeded))
+    let app = ambit_app::with_commands(mock_builder(), AppState::opened(library, seeded))
         .build(mock_context(noop_assets()))
         .expect("the app builds");
     let window = tauri::WebviewWindowBuilder::new(&app, "main", Default::default())
@@ -51,7 +51,8 @@ impl TestApp {
                 cmd: command.into(),
                 callback: tauri::ipc::CallbackFn(0),
                 error: tauri::ipc::CallbackFn(1),
-                url: "http://tauri.localhost".parse().expect("a URL"),
+                // The app's own origin on Linux and macOS (Windows: http://tauri.localhost).
+                url: "tauri://localhost".parse().expect("a URL"),
                 body: tauri::ipc::InvokeBody::Json(arguments),
                 headers: Default::default(),
                 invoke_key: INVOKE_KEY.to_string(),

@@ -210,24 +210,29 @@ pub fn piece_import(
     state.using(|library| import(library, &path, layout))
 }
 
+/// The view of a stored piece under a mapping choice.
+fn view_with(library: &Library, title: &str, choice: &MappingChoice) -> Result<PieceView, String> {
+    let record = find_piece(library, title).map_err(text)?;
+    let piece = read_stored(&record)?;
+    Ok(piece_view(
+        &record.title,
+        &record.original_name,
+        &piece,
+        choice,
+    ))
+}
+
 /// The view of a stored piece; `layout` (when given) replaces the stored choice for this view.
 pub fn stored_view(
     library: &Library,
     title: &str,
     layout: Option<String>,
 ) -> Result<PieceView, String> {
-    let record = find_piece(library, title).map_err(text)?;
-    let piece = read_stored(&record)?;
     let mut choice = stored_choice(library, title)?;
     if layout.is_some() {
         choice.layout = layout;
     }
-    Ok(piece_view(
-        &record.title,
-        &record.original_name,
-        &piece,
-        &choice,
-    ))
+    view_with(library, title, &choice)
 }
 
 #[tauri::command(async)]
@@ -254,11 +259,7 @@ pub fn piece_set_mapping(
         if layout.is_some() {
             choice.layout = layout;
         }
-        let view = {
-            let record = find_piece(library, &title).map_err(text)?;
-            let piece = read_stored(&record)?;
-            piece_view(&record.title, &record.original_name, &piece, &choice)
-        };
+        let view = view_with(library, &title, &choice)?;
         if let Some(error) = &view.mapping_error {
             return Err(error.clone());
         }

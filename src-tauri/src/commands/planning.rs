@@ -512,16 +512,7 @@ pub fn scenario_save(
     if name.trim().is_empty() {
         return Err("a scenario needs a name".into());
     }
-    let layout = result
-        .get("layout")
-        .and_then(|layout| layout.as_array())
-        .map(|sections| {
-            sections
-                .iter()
-                .filter_map(|section| section.as_str())
-                .collect::<Vec<_>>()
-                .join(",")
-        });
+    let layout = ambit::views::place_view_layout(&result);
     state.with_library(|library| {
         library.save_scenario(&ScenarioInput {
             name,
