@@ -27,10 +27,13 @@ use tauri::{AppHandle, Emitter, Runtime};
 pub const PITCH_FRAME: &str = "pitch-frame";
 
 /// Viterbi lag of the live trace. The offline default (0.25 s) is too late
-/// for a trace the singer watches; 30 ms keeps the HMM's smoothing over three
-/// hops while staying inside the 60 ms budget. The saved WAV is
-/// analysed afterwards with the default configuration.
-pub const LIVE_VITERBI_LAG_SECONDS: f64 = 0.03;
+/// for a trace the singer watches. Measured with `examples/live_latency.rs`
+/// (10 ms blocks at 48 kHz), a frame reaches the screen this lag + 30 ms
+/// (the half frame after its centre) + up to one block after its centre:
+/// 10 ms gives 50 ms, inside the 60 ms budget, and still lets the HMM
+/// look one hop ahead. The saved WAV is analysed afterwards with the default
+/// configuration.
+pub const LIVE_VITERBI_LAG_SECONDS: f64 = 0.01;
 
 /// One frame of the live trace.
 #[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
