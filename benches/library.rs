@@ -24,6 +24,7 @@ fn profile(shift: f64) -> Profile {
         },
         reached: None,
         passaggi: Vec::new(),
+        registers: Vec::new(),
         speaking_f0_hz: Some(118.0),
         timbre: None,
         voice_type: VoiceTypeResult {

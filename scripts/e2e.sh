@@ -42,6 +42,11 @@ cleanup() { rm -rf "$work"; }
 trap cleanup EXIT
 say "synthesising the audition files"
 cargo run -q --example demo_audition_wavs -- "$work/audition" tenor >/dev/null
+# The demo library the app would seed on its first start, prepared with the
+# CLI (the same engine call, ambit::demo::seed::seed_library), so the app's
+# window does not wait for the synthesis under WebDriver's session timeout.
+say "preparing the demo library"
+cargo run -q --bin ambit -- library --library "$work/library" init --demo >/dev/null
 
 export AMBIT_APP="$app"
 export TAURI_DRIVER="$driver"

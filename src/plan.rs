@@ -131,3 +131,158 @@ pub fn placement_problem(
         pair_notes: notes,
     })
 }
+
+/// Everything a programme plan needs besides the roster and the scores.
+#[derive(Debug, Clone, PartialEq, Default, Serialize, Deserialize)]
+pub struct ProgrammeConfig {
+    pub section_fit: crate::fit::SectionFitConfig,
+    pub placement: crate::placement::PlacementConfig,
+    pub tessitura: crate::tessitura::TessituraConfig,
+    pub transpose: crate::transpose::TransposeConfig,
+}
+
+/// The sung-time distribution of one line a section sings in one piece.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+pub struct LineDistribution {
+    /// The line's label: a part name, with "(upper)"/"(lower)" for a divisi line.
+    pub label: String,
+    pub role: crate::sections::LineRole,
+    /// Seconds sung on each semitone (MIDI number → seconds), from the one
+    /// duration-weighted distribution (`tessitura::PitchDistribution`).
+    pub histogram_seconds: std::collections::BTreeMap<i32, f64>,
+    pub lowest_midi: Option<f64>,
+    pub highest_midi: Option<f64>,
+    pub sung_seconds: f64,
+}
+
+/// What one section sings in one piece.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+pub struct SectionLines {
+    pub section: String,
+    /// None when tacet, one line, or the two lines of a divisi.
+    pub lines: Vec<LineDistribution>,
+}
+
+/// One piece of the programme: its parts' tessituras, what each section
+/// sings, and the key advice for the choir as placed.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+pub struct PiecePlan {
+    pub title: String,
+    /// The first key signature's sharps (+) or flats (−), when the score has one.
+    pub key_fifths: Option<i32>,
+    /// Every part with sounding notes (accompaniment included, marked by its kind).
+    pub parts: Vec<crate::tessitura::PartTessitura>,
+    /// One entry per layout section, in layout order.
+    pub sections: Vec<SectionLines>,
+    pub mapping: crate::fit::MappingSummary,
+    pub keys: crate::transpose::ChoirAdvice,
+}
+
+/// A whole programme plan: fit matrix, optimal placement, per-piece
+/// tessituras and key advice. What `ambit place --report` and `ambit demo`
+/// show.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+pub struct ProgrammePlan {
+    pub layout: String,
+    /// The roster with each singer's `section` set to the placement.
+    pub roster: crate::roster::Roster,
+    pub matrix: crate::fit::SectionFitMatrix,
+    pub constraints: PlanConstraints,
+    pub placement: crate::placement::Placement,
+    pub pieces: Vec<PiecePlan>,
+    pub cautions: Vec<String>,
+}
+
+/// Why a programme cannot be planned.
+#[derive(Debug, Error)]
+pub enum ProgrammeError {
+    #[error(transparent)]
+    Mapping(#[from] crate::sections::MappingError),
+    #[error(transparent)]
+    Plan(#[from] PlanError),
+    #[error(transparent)]
+    Placement(#[from] crate::placement::PlacementError),
+    #[error(transparent)]
+    Transpose(#[from] crate::transpose::TransposeError),
+}
+
+/// The section-fit matrix over a programme and the optimal placement under
+/// `constraints`: the part of [`plan_programme`] that `ambit place` needs
+/// without a report.
+pub fn place_programme(
+    roster: &crate::roster::Roster,
+    programme: &[crate::score::Piece],
+    layout: &crate::sections::Layout,
+    constraints: &PlanConstraints,
+    config: &ProgrammeConfig,
+) -> Result<(crate::fit::SectionFitMatrix, crate::placement::Placement), ProgrammeError> {
+    let matrix = crate::fit::section_fit_matrix(roster, programme, layout, &config.section_fit)?;
+    let problem = placement_problem(&matrix, constraints)?;
+    let placement = crate::placement::place(&problem, &config.placement)?;
+    Ok((matrix, placement))
+}
+
+/// Plans a programme: the section-fit matrix, the optimal placement under
+/// `constraints`, each part's tessitura, what each section sings, and the
+/// key sweep for the choir as placed. Every figure comes from its stage
+/// (`fit`, `placement`, `tessitura`, `transpose`); this only runs them in
+/// order and joins their outputs.
+pub fn plan_programme(
+    roster: &crate::roster::Roster,
+    programme: &[crate::score::Piece],
+    layout: &crate::sections::Layout,
+    constraints: &PlanConstraints,
+    config: &ProgrammeConfig,
+) -> Result<ProgrammePlan, ProgrammeError> {
+    use crate::tessitura::{PitchDistribution, Weight, analyse_piece};
+    let (matrix, placement) = place_programme(roster, programme, layout, constraints, config)?;
+    let mut placed = roster.clone();
+    for (singer, assignment) in placed.singers.iter_mut().zip(&placement.assignments) {
+        singer.section = Some(assignment.section.clone());
+    }
+    let mut pieces = Vec::with_capacity(programme.len());
+    for ((piece, mapping), summary) in programme.iter().zip(&matrix.mappings).zip(&matrix.pieces) {
+        let sections = mapping
+            .sections
+            .iter()
+            .map(|(section, sings)| SectionLines {
+                section: section.to_string(),
+                lines: sings
+                    .lines()
+                    .iter()
+                    .map(|line| {
+                        let distribution =
+                            PitchDistribution::from_notes(&line.part.notes, Weight::Seconds);
+                        LineDistribution {
+                            label: line.label.clone(),
+                            role: line.role,
+                            histogram_seconds: distribution.histogram(),
+                            lowest_midi: distribution.lowest(),
+                            highest_midi: distribution.highest(),
+                            sung_seconds: distribution.total(),
+                        }
+                    })
+                    .collect(),
+            })
+            .collect();
+        let mut keys_config = config.transpose.clone();
+        keys_config.section_fit = config.section_fit.clone();
+        pieces.push(PiecePlan {
+            title: mapping.piece.clone(),
+            key_fifths: piece.key.map(|key| key.fifths),
+            parts: analyse_piece(piece, &config.tessitura),
+            sections,
+            mapping: summary.clone(),
+            keys: crate::transpose::choir_keys(&placed, piece, &keys_config)?,
+        });
+    }
+    Ok(ProgrammePlan {
+        layout: layout.name.clone(),
+        roster: placed,
+        matrix,
+        constraints: constraints.clone(),
+        placement,
+        pieces,
+        cautions: crate::cautions::cautions(),
+    })
+}

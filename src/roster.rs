@@ -383,8 +383,9 @@ pub fn parse_roster_csv(path: &Path, data: &[u8]) -> Result<Roster, RosterError>
     Ok(Roster { singers })
 }
 
-/// Names are compared without case or surrounding space.
-fn name_key(name: &str) -> String {
+/// Names are compared without case or surrounding space (in rosters and in
+/// the library alike).
+pub(crate) fn name_key(name: &str) -> String {
     name.trim().to_lowercase()
 }
 

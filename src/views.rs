@@ -177,14 +177,6 @@ pub struct AtRiskJson {
     pub reasons: Vec<String>,
 }
 
-/// A risk reason in words.
-pub fn reason_text(reason: &RiskReason) -> String {
-    match reason {
-        RiskReason::LowFit { threshold } => format!("fit below {threshold:.0}"),
-        RiskReason::BeyondRange => "sings beyond their range".into(),
-    }
-}
-
 /// The `ambit place --json` view of a placement over `matrix`.
 pub fn place_view(matrix: &SectionFitMatrix, placement: &Placement) -> PlaceJson {
     PlaceJson {
@@ -231,7 +223,7 @@ pub fn place_view(matrix: &SectionFitMatrix, placement: &Placement) -> PlaceJson
                 singer: risk.singer.clone(),
                 section: risk.section.clone(),
                 fit: risk.fit,
-                reasons: risk.reasons.iter().map(reason_text).collect(),
+                reasons: risk.reasons.iter().map(RiskReason::describe).collect(),
             })
             .collect(),
         cautions: cautions(),

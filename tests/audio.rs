@@ -400,7 +400,7 @@ fn report_warns_about_clipping_dc_and_noise() {
 
     // Uniform noise in ±0.1 has RMS 0.1/√3 = −24.8 dBFS in every frame, so
     // the noise floor is about −24.8 dBFS, above the −40 dBFS warning line.
-    let mut rng = common::Lcg(12345u64);
+    let mut rng = ambit::synth::random::SplitMix64::new(12345u64);
     let noise: Vec<f64> = (0..16_000)
         .map(|_| {
             let state = rng.next_u64();

@@ -210,7 +210,7 @@ fn mu_law_wav_is_decoded() {
 #[test]
 fn random_binary_and_text_are_not_audio() {
     let dir = tempfile::tempdir().expect("tempdir");
-    let mut rng = common::Lcg(0x2545_F491_4F6C_DD1Du64);
+    let mut rng = ambit::synth::random::SplitMix64::new(0x2545_F491_4F6C_DD1Du64);
     let noise: Vec<u8> = (0..65_536)
         .map(|_| {
             let state = rng.next_u64();
@@ -355,7 +355,7 @@ fn too_short_is_unusable_with_its_length() {
 #[test]
 fn pure_noise_decodes_with_a_noise_warning() {
     let dir = tempfile::tempdir().expect("tempdir");
-    let mut rng = common::Lcg(7u64);
+    let mut rng = ambit::synth::random::SplitMix64::new(7u64);
     let pcm: Vec<u8> = (0..32_000)
         .flat_map(|_| {
             let state = rng.next_u64();

@@ -77,6 +77,10 @@ fn kill_at_random_points_loses_nothing() {
     let mut kills = 0;
     let mut finished = false;
     let started = Instant::now();
+    // The mean time between two commits, measured as the child runs; a kill
+    // lands a random fraction of it after a commit report, so kills fall in
+    // every phase of a transaction (copying the file, inserting, committing).
+    let mut commit_interval = Duration::from_millis(2);
     while kills < KILLS && !finished {
         let mut child = Command::new(std::env::current_exe().unwrap())
             .args([
@@ -92,21 +96,53 @@ fn kill_at_random_points_loses_nothing() {
             .spawn()
             .unwrap();
         let stdout = child.stdout.take().unwrap();
-        // Read the child's reports on a thread; the parent kills on a timer.
+        // Forward the child's reports as they come, with their arrival time.
+        let (sender, receiver) = std::sync::mpsc::channel::<(Instant, String)>();
         let reader = std::thread::spawn(move || {
-            BufReader::new(stdout)
-                .lines()
-                .map_while(Result::ok)
-                .collect::<Vec<String>>()
+            for line in BufReader::new(stdout).lines().map_while(Result::ok) {
+                if sender.send((Instant::now(), line)).is_err() {
+                    break;
+                }
+            }
         });
-        let delay = Duration::from_millis(5 + random.next() % 60);
-        std::thread::sleep(delay);
-        if child.try_wait().unwrap().is_none() {
-            child.kill().unwrap(); // SIGKILL on Unix
-            kills += 1;
+        // Let the child commit 1–4 singers in this run, then kill it at a
+        // random point of the next transaction.
+        let commits_before_kill = 1 + (random.next() % 4) as usize;
+        let mut seen = 0;
+        let mut last_commit: Option<Instant> = None;
+        let deadline = Instant::now() + Duration::from_secs(60);
+        while let Ok((at, line)) = receiver.recv_timeout(Duration::from_secs(60)) {
+            if let Some(index) = line.strip_prefix("committed ") {
+                committed.push(index.trim().parse().unwrap());
+                if let Some(previous) = last_commit {
+                    // An exponential moving average of the commit interval.
+                    commit_interval = (commit_interval * 7 + (at - previous)) / 8;
+                }
+                last_commit = Some(at);
+                seen += 1;
+                if seen == commits_before_kill {
+                    break;
+                }
+            } else if line == "finished" {
+                finished = true;
+                break;
+            }
+            if Instant::now() > deadline {
+                break;
+            }
+        }
+        if !finished {
+            let fraction = (random.next() % 1000) as u32;
+            std::thread::sleep(commit_interval * fraction / 1000);
+            if child.try_wait().unwrap().is_none() {
+                child.kill().unwrap(); // SIGKILL on Unix
+                kills += 1;
+            }
         }
         child.wait().unwrap();
-        for line in reader.join().unwrap() {
+        reader.join().unwrap();
+        // Reports that arrived after the last one read (before the kill).
+        for (_, line) in receiver.try_iter() {
             if let Some(index) = line.strip_prefix("committed ") {
                 committed.push(index.trim().parse().unwrap());
             } else if line == "finished" {
@@ -147,13 +183,14 @@ fn kill_at_random_points_loses_nothing() {
         }
     }
     eprintln!(
-        "crash test: {kills} kills, {} commits reported, finished: {finished}, {:.1} s",
+        "crash test: {kills} kills, {} commits reported, mean commit interval {:.2} ms, finished: {finished}, {:.1} s",
         committed.len(),
+        commit_interval.as_secs_f64() * 1000.0,
         started.elapsed().as_secs_f64()
     );
-    assert!(
-        kills >= 10,
-        "the child finished before it could be killed often enough"
+    assert_eq!(
+        kills, KILLS,
+        "the child finished before it was killed {KILLS} times"
     );
     assert!(!committed.is_empty());
 }

@@ -145,6 +145,8 @@ pub fn open_or_seed(folder: &Path) -> Result<(Library, bool), String> {
         return Ok((library, false));
     }
     let mut library = Library::create(folder).map_err(|error| error.to_string())?;
-    crate::seed::seed_demo(&mut library)?;
+    crate::seed::seed_demo(&mut library, &mut |done, total, label| {
+        eprintln!("ambit: preparing the demo library {done}/{total}: {label}");
+    })?;
     Ok((library, true))
 }

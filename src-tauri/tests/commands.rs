@@ -23,14 +23,18 @@ struct TestApp {
     folder: tempfile::TempDir,
 }
 
-/// The app on a new library; `seeded` adds the demo choir and sample scores.
-fn app(seeded: bool) -> TestApp {
+/// The app on a new library; `with_choir` adds the demo choir as a typed-in
+/// roster (the app's first start measures their synthesised auditions too,
+/// which is slower than a test needs).
+fn app(with_choir: bool) -> TestApp {
     let folder = tempfile::tempdir().expect("a scratch folder");
     let mut library = Library::create(&folder.path().join("library")).expect("a library");
-    if seeded {
-        ambit_app::seed::seed_demo(&mut library).expect("the demo seeds");
+    if with_choir {
+        library
+            .import_roster(&ambit::demo::seed::demo_roster())
+            .expect("the demo roster imports");
     }
-    let app = ambit_app::with_commands(mock_builder(), AppState::opened(library, seeded))
+    let app = ambit_app::with_commands(mock_builder(), AppState::opened(library, with_choir))
         .build(mock_context(noop_assets()))
         .expect("the app builds");
     let window = tauri::WebviewWindowBuilder::new(&app, "main", Default::default())
@@ -291,6 +295,8 @@ fn a_score_that_is_not_a_score_is_refused_with_its_name() {
 #[test]
 fn a_placement_move_changes_the_total_by_the_two_fits() {
     let app = app(true);
+    let score = repository().join("sample-scores/the-tide-clock.musicxml");
+    app.ok("piece_import", json!({ "path": score }));
     let done = app.job("place_solve", json!({ "pieces": [], "layout": "SATB" }));
     assert!(done["error"].is_null(), "{done}");
     let result = &done["result"];

@@ -8,6 +8,7 @@ use anyhow::{Context, bail};
 use clap::{Args, Subcommand};
 
 use ambit::cautions::cautions;
+use ambit::demo::seed::seed_library;
 use ambit::library::{
     AuditionInput, ImportPlan, Library, PieceInput, RecordingInput, ScenarioInput, SingerSource,
     resolve_folder, today,
@@ -31,7 +32,12 @@ pub struct LibraryArgs {
 #[derive(Debug, Subcommand)]
 pub enum LibraryCommand {
     /// Create the library (or open and migrate an existing one).
-    Init,
+    Init {
+        /// Fill a new, empty library with the demo choir (their synthesised
+        /// auditions, profiled) and the sample scores as one programme.
+        #[arg(long)]
+        demo: bool,
+    },
     /// Where the library is and what it holds.
     Info {
         #[arg(long)]
@@ -167,13 +173,35 @@ fn print_plan(plan: &ImportPlan, dry_run: bool) {
 pub fn run(arguments: LibraryArgs) -> anyhow::Result<()> {
     let folder = resolve_folder(arguments.library.as_deref())?;
     match arguments.command {
-        LibraryCommand::Init => {
-            let library = Library::create(&folder)?;
+        LibraryCommand::Init { demo } => {
+            let mut library = Library::create(&folder)?;
             println!(
                 "library ready at {} (schema version {})",
                 folder.display(),
                 library.schema_version()?
             );
+            if demo {
+                let info = library.info()?;
+                if info.singers + info.archived_singers + info.pieces > 0 {
+                    bail!(
+                        "{}: the library already holds {} singers and {} pieces; --demo fills only an empty library",
+                        folder.display(),
+                        info.singers + info.archived_singers,
+                        info.pieces
+                    );
+                }
+                let staging = folder.join("demo-staging");
+                let seeded = seed_library(&mut library, &staging, &mut |done, total, label| {
+                    eprintln!("  [{done}/{total}] {label}");
+                })?;
+                println!(
+                    "stored {} demo auditions and {} sample scores as the programme \"{}\"",
+                    seeded.auditions, seeded.pieces, seeded.programme
+                );
+                for caution in cautions() {
+                    println!("note: {caution}");
+                }
+            }
         }
         LibraryCommand::Info { json } => {
             let info = open(&folder)?.info()?;

@@ -1,6 +1,7 @@
 //! Command-line interface: one file per subcommand. Each subcommand parses
 //! its arguments, calls the engine and formats text or JSON.
 
+mod demo;
 mod fit;
 mod library;
 mod parts;
@@ -21,6 +22,8 @@ pub struct Cli {
 
 #[derive(Debug, Subcommand)]
 pub enum Command {
+    /// The whole pipeline on the bundled demo choir and sample scores; writes DIR/report.html.
+    Demo(demo::DemoArgs),
     /// Range, tessitura, hot spots and cycle dose of every part of a score.
     Parts(parts::PartsArgs),
     /// Pitch track (f0 per frame) of a recording.
@@ -39,6 +42,7 @@ pub enum Command {
 
 pub fn run(cli: Cli) -> anyhow::Result<()> {
     match cli.command {
+        Command::Demo(arguments) => demo::run(arguments),
         Command::Parts(arguments) => parts::run(arguments),
         Command::Track(arguments) => track::run(arguments),
         Command::Profile(arguments) => profile::run(arguments),
@@ -46,5 +50,19 @@ pub fn run(cli: Cli) -> anyhow::Result<()> {
         Command::Library(arguments) => library::run(arguments),
         Command::Fit(arguments) => fit::run(arguments),
         Command::Transpose(arguments) => transpose::run(arguments),
+    }
+}
+
+/// Writes the whole output at once; a reader that stops early (`| head`)
+/// is not an error.
+pub(crate) fn write_stdout(text: &str) -> anyhow::Result<()> {
+    use std::io::Write as _;
+    let mut stdout = std::io::stdout().lock();
+    match stdout
+        .write_all(text.as_bytes())
+        .and_then(|()| stdout.flush())
+    {
+        Err(error) if error.kind() == std::io::ErrorKind::BrokenPipe => Ok(()),
+        result => Ok(result?),
     }
 }

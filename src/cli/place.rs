@@ -3,20 +3,25 @@
 //! placement of a roster into a layout's sections over a programme.
 
 use std::fmt::Write as _;
-use std::io::Write as _;
 use std::path::PathBuf;
 
 use anyhow::{Context, bail};
 use clap::Args;
 
 use ambit::cautions::cautions;
-use ambit::fit::{SectionFitConfig, section_fit_matrix};
-use ambit::placement::{Placement, PlacementConfig, PlacementError, SizeLimit, place};
-use ambit::plan::{PlanConstraints, placement_problem};
+use ambit::fit::SectionFitMatrix;
+use ambit::placement::{Placement, PlacementError, RiskReason, SizeLimit};
+use ambit::plan::{
+    PlanConstraints, ProgrammeConfig, ProgrammeError, ProgrammePlan, place_programme,
+    plan_programme,
+};
+use ambit::report::{ReportDocument, write_report};
+use ambit::views::place_view;
+
+use super::write_stdout;
 use ambit::roster::read_roster;
 use ambit::score::{ReadOptions, read_score};
 use ambit::sections::Layout;
-use ambit::views::{place_view, reason_text};
 
 #[derive(Debug, Args)]
 pub struct PlaceArgs {
@@ -53,6 +58,15 @@ pub struct PlaceArgs {
     /// Print JSON instead of a table.
     #[arg(long)]
     pub json: bool,
+    /// Also write the plan as a self-contained HTML report (charts, tables, cautions) to this file.
+    #[arg(long, value_name = "FILE.html")]
+    pub report: Option<PathBuf>,
+}
+
+/// What was solved: the whole plan (for a report) or just the placement.
+enum Outcome {
+    Plan(Box<ProgrammePlan>),
+    Placed(Box<(SectionFitMatrix, Placement)>),
 }
 
 /// "NAME=VALUE", split at the last '=' so names may contain one.
@@ -144,11 +158,18 @@ pub fn run(arguments: PlaceArgs) -> anyhow::Result<()> {
         .iter()
         .map(|path| read_score(path, &options))
         .collect::<Result<Vec<_>, _>>()?;
-    let matrix = section_fit_matrix(&roster, &programme, &layout, &SectionFitConfig::default())?;
-    let problem = placement_problem(&matrix, &constraints)?;
-    let placement = match place(&problem, &PlacementConfig::default()) {
-        Ok(placement) => placement,
-        Err(PlacementError::Infeasible { reasons }) => {
+    let config = ProgrammeConfig::default();
+    // A report needs the whole plan (tessituras, key sweeps); a table or
+    // JSON needs only the matrix and the placement.
+    let outcome = match &arguments.report {
+        Some(_) => plan_programme(&roster, &programme, &layout, &constraints, &config)
+            .map(|plan| Outcome::Plan(Box::new(plan))),
+        None => place_programme(&roster, &programme, &layout, &constraints, &config)
+            .map(|placed| Outcome::Placed(Box::new(placed))),
+    };
+    let outcome = match outcome {
+        Ok(outcome) => outcome,
+        Err(ProgrammeError::Placement(PlacementError::Infeasible { reasons })) => {
             let lines: Vec<String> = reasons
                 .iter()
                 .map(|reason| format!("  - {}", reason.message))
@@ -157,7 +178,37 @@ pub fn run(arguments: PlaceArgs) -> anyhow::Result<()> {
         }
         Err(error) => return Err(error.into()),
     };
-    let json = serde_json::to_value(place_view(&matrix, &placement))?;
+    let (matrix, placement) = match &outcome {
+        Outcome::Plan(plan) => (&plan.matrix, &plan.placement),
+        Outcome::Placed(placed) => (&placed.0, &placed.1),
+    };
+    if let (Some(path), Outcome::Plan(plan)) = (&arguments.report, &outcome) {
+        let names: Vec<String> = score_paths
+            .iter()
+            .map(|path| {
+                path.file_name().map_or_else(
+                    || path.display().to_string(),
+                    |name| name.to_string_lossy().into_owned(),
+                )
+            })
+            .collect();
+        let title = format!(
+            "Programme plan: {} singers, layout {}",
+            roster.singers.len(),
+            layout.name
+        );
+        let source = format!("Roster and {} piece(s): {}.", names.len(), names.join(", "));
+        write_report(
+            path,
+            &ReportDocument {
+                title: &title,
+                source: &source,
+                plan,
+            },
+        )?;
+        eprintln!("wrote {}", path.display());
+    }
+    let json = serde_json::to_value(place_view(matrix, placement))?;
     if let (Some(name), Some(mut library)) = (&arguments.save_scenario, library) {
         let id = library.save_scenario(&ambit::library::ScenarioInput {
             name: name.clone(),
@@ -172,20 +223,7 @@ pub fn run(arguments: PlaceArgs) -> anyhow::Result<()> {
     if arguments.json {
         write_stdout(&format!("{}\n", serde_json::to_string_pretty(&json)?))
     } else {
-        write_stdout(&table(&placement)?)
-    }
-}
-
-/// Writes the whole output at once; a reader that stops early (`| head`)
-/// is not an error.
-fn write_stdout(text: &str) -> anyhow::Result<()> {
-    let mut stdout = std::io::stdout().lock();
-    match stdout
-        .write_all(text.as_bytes())
-        .and_then(|()| stdout.flush())
-    {
-        Err(error) if error.kind() == std::io::ErrorKind::BrokenPipe => Ok(()),
-        result => Ok(result?),
+        write_stdout(&table(placement)?)
     }
 }
 
@@ -226,24 +264,31 @@ fn table(placement: &Placement) -> Result<String, std::fmt::Error> {
     if placement.balance_penalty > 0.0 {
         writeln!(out, "balance penalty {:.1}", placement.balance_penalty)?;
     }
-    if !placement.at_risk.is_empty() {
-        writeln!(out)?;
-        writeln!(out, "at risk:")?;
-        for risk in &placement.at_risk {
-            let reasons: Vec<String> = risk.reasons.iter().map(reason_text).collect();
-            writeln!(
-                out,
-                "  {} in {} (fit {:.1}): {}",
-                risk.singer,
-                risk.section,
-                risk.fit,
-                reasons.join(", ")
-            )?;
-        }
-    }
+    write_at_risk(&mut out, placement)?;
     writeln!(out)?;
     for caution in cautions() {
         writeln!(out, "note: {caution}")?;
     }
     Ok(out)
+}
+
+/// The "at risk:" block of the placement table (nothing when nobody is).
+pub(super) fn write_at_risk(out: &mut String, placement: &Placement) -> std::fmt::Result {
+    if placement.at_risk.is_empty() {
+        return Ok(());
+    }
+    writeln!(out)?;
+    writeln!(out, "at risk:")?;
+    for risk in &placement.at_risk {
+        let reasons: Vec<String> = risk.reasons.iter().map(RiskReason::describe).collect();
+        writeln!(
+            out,
+            "  {} in {} (fit {:.1}): {}",
+            risk.singer,
+            risk.section,
+            risk.fit,
+            reasons.join(", ")
+        )?;
+    }
+    Ok(())
 }

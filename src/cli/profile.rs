@@ -66,8 +66,10 @@ pub fn run(arguments: ProfileArgs) -> anyhow::Result<()> {
         return Ok(());
     }
     println!(
-        "Range (held ≥ 1 s)   {} – {}",
-        result.range.low, result.range.high
+        "Range (held ≥ 1 s)   {} – {}  (confidence {:.0} %)",
+        result.range.low,
+        result.range.high,
+        result.range_confidence * 100.0
     );
     if let Some(reached) = &result.reached {
         println!(
@@ -105,12 +107,37 @@ pub fn run(arguments: ProfileArgs) -> anyhow::Result<()> {
             passaggio.confidence * 100.0
         );
     }
+    if !result.registers.is_empty() {
+        let spans: Vec<String> = result
+            .registers
+            .iter()
+            .map(|r| {
+                format!(
+                    "{} {}–{} ({:.1} s)",
+                    r.register.label(),
+                    r.span.low,
+                    r.span.high,
+                    r.seconds
+                )
+            })
+            .collect();
+        println!("Registers (sung)     {}", spans.join(", "));
+    }
     match result.speaking_f0_hz {
         Some(hz) => println!(
             "Speaking f0          {hz:.0} Hz ({})",
             nearest_name(ambit::pitch::hz_to_midi(hz).unwrap_or(0.0))
         ),
         None => println!("Speaking f0          — (no speech task)"),
+    }
+    if let Some(timbre) = &result.timbre {
+        let tilt = timbre
+            .alpha_ratio_db
+            .map_or_else(String::new, |alpha| format!(", alpha ratio {alpha:.1} dB"));
+        println!(
+            "Timbre               centroid {:.0} Hz, singer's formant {:.1} dB{tilt} (weak evidence, not used for the type)",
+            timbre.centroid_hz, timbre.singers_formant_db
+        );
     }
     println!(
         "Voice type           {} ({:.0} %)",

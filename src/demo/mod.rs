@@ -8,6 +8,10 @@
 //! proof.
 
 pub mod choir;
+pub mod run;
+pub mod seed;
+
+use std::path::Path;
 
 use rayon::prelude::*;
 
@@ -15,13 +19,14 @@ use crate::pitch::{Tuning, hz_to_midi};
 use crate::synth::Note as SungNote;
 use crate::synth::{
     Glide, Register, RegisterBreak, Segment, Speech, SynthConfig, SynthError, Synthesis, TractSize,
-    Vibrato, Voice, Vowel, synthesize,
+    Vibrato, Voice, Vowel, synthesize, write_wav,
 };
 use crate::track::{TrackConfig, track_samples};
 use crate::voice::types::VoiceType;
 use crate::voice::{PROFILE_SAMPLE_RATE, Recording, Task};
 
 pub use choir::{DEMO_CHOIR, DemoSinger};
+pub use run::{DemoConfig, DemoError, DemoResult, MeasuredSinger, run_demo};
 
 /// Scale steps of the "five-note scale" task: do re mi fa so fa mi re do.
 const FIVE_NOTE_SCALE: [f64; 9] = [0.0, 2.0, 4.0, 5.0, 7.0, 5.0, 4.0, 2.0, 0.0];
@@ -205,27 +210,50 @@ pub fn synthesise_task(
     synthesize(&voice_of(singer), &task_segments(singer, task), &config)
 }
 
+/// The synthesis seed of the `index`-th task of an audition seeded `seed`.
+pub fn task_seed(seed: u64, index: usize) -> u64 {
+    seed.wrapping_mul(31).wrapping_add(index as u64)
+}
+
 /// Synthesises and tracks a whole audition (all five tasks) for one singer.
 pub fn audition(singer: &DemoSinger, seed: u64) -> Result<Vec<Recording>, String> {
+    audition_to(singer, seed, None)
+}
+
+/// As [`audition`]; when `wav_dir` is given, each task's recording is also
+/// written there as a 16-bit WAV file named after the task (`glide.wav`, …)
+/// and the recording names that file.
+pub fn audition_to(
+    singer: &DemoSinger,
+    seed: u64,
+    wav_dir: Option<&Path>,
+) -> Result<Vec<Recording>, String> {
     Task::ALL
         .iter()
         .enumerate()
         .map(|(index, &task)| {
-            let synthesis = synthesise_task(
-                singer,
-                task,
-                seed.wrapping_mul(31).wrapping_add(index as u64),
-            )
-            .map_err(|error| format!("{} ({}): {error}", singer.name, task.label()))?;
+            let failed = |error: &dyn std::fmt::Display| {
+                format!("{} ({}): {error}", singer.name, task.label())
+            };
+            let synthesis = synthesise_task(singer, task, task_seed(seed, index))
+                .map_err(|error| failed(&error))?;
+            let file = match wav_dir {
+                Some(dir) => {
+                    let path = dir.join(format!("{}.wav", task.label()));
+                    write_wav(&path, &synthesis).map_err(|error| failed(&error))?;
+                    path.display().to_string()
+                }
+                None => format!("demo:{}/{}", singer.name, task.label()),
+            };
             let track = track_samples(
                 &synthesis.samples,
                 synthesis.sample_rate,
                 &TrackConfig::default(),
             )
-            .map_err(|error| format!("{} ({}): {error}", singer.name, task.label()))?;
+            .map_err(|error| failed(&error))?;
             Ok(Recording {
                 task,
-                file: format!("demo:{}/{}", singer.name, task.label()),
+                file,
                 samples: synthesis.samples,
                 sample_rate: synthesis.sample_rate,
                 track,
@@ -242,6 +270,6 @@ pub fn choir_auditions() -> Vec<(&'static DemoSinger, Result<Vec<Recording>, Str
     DEMO_CHOIR
         .par_iter()
         .enumerate()
-        .map(|(index, singer)| (singer, audition(singer, 1000 + index as u64)))
+        .map(|(index, singer)| (singer, audition(singer, seed::audition_seed(index))))
         .collect()
 }

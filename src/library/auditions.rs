@@ -100,13 +100,13 @@ impl Library {
                 .execute(
                     "INSERT INTO singers (name, name_key, created_at) VALUES (?1, ?2, ?3)
                      ON CONFLICT(name_key) DO NOTHING",
-                    params![input.singer.trim(), super::singers::name_key(&input.singer), now],
+                    params![input.singer.trim(), crate::roster::name_key(&input.singer), now],
                 )
                 .map_err(db)?;
             let singer_id: i64 = transaction
                 .query_row(
                     "SELECT id FROM singers WHERE name_key = ?1",
-                    params![super::singers::name_key(&input.singer)],
+                    params![crate::roster::name_key(&input.singer)],
                     |row| row.get(0),
                 )
                 .map_err(db)?;

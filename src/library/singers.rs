@@ -8,7 +8,7 @@ use rusqlite::{OptionalExtension, Transaction, params};
 use serde::{Deserialize, Serialize};
 
 use super::{Library, LibraryError, RECORDINGS_DIR, now_timestamp};
-use crate::roster::{Roster, Singer};
+use crate::roster::{Roster, Singer, name_key};
 use crate::voice::{PassaggioKind, Profile};
 
 /// Where a singer's current range comes from.
@@ -77,10 +77,6 @@ impl TypedRange {
             secondo_midi: singer.secondo_midi,
         }
     }
-}
-
-pub(crate) fn name_key(name: &str) -> String {
-    name.trim().to_lowercase()
 }
 
 fn pitch_text(midi: Option<f64>) -> String {

@@ -155,6 +155,16 @@ pub enum RiskReason {
     BeyondRange,
 }
 
+impl RiskReason {
+    /// The flag in words, as every front end shows it ("fit below 50").
+    pub fn describe(&self) -> String {
+        match self {
+            RiskReason::LowFit { threshold } => format!("fit below {threshold:.0}"),
+            RiskReason::BeyondRange => "sings beyond their range".into(),
+        }
+    }
+}
+
 /// A placed singer who needs the director's attention.
 #[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
 pub struct AtRisk {

@@ -31,7 +31,7 @@ use crate::pitch::{Tuning, hz_to_midi, nearest_name};
 use crate::track::{self, Track, TrackConfig};
 
 use notes::{SegmentConfig, SungNote, segment_notes};
-use registers::{BreakConfig, find_breaks, group_breaks};
+use registers::{BreakConfig, Register, RegisterBounds, find_breaks, group_breaks, note_register};
 use timbre::{SpectralMeasures, SpectrumAnalyser, median_measures};
 use types::{Evidence, VoiceType, classify, rank_sections};
 
@@ -102,10 +102,19 @@ pub struct ProfileConfig {
     pub fry_max_hz: f64,
     /// Frame-to-frame irregularity (cents RMS) above which a low note is fry.
     pub fry_irregularity_cents: f64,
+    /// At or above this f0 a note is whistle register (M3). From memory:
+    /// the whistle register lies above the soprano's usual top, about C6
+    /// (1047 Hz) and higher; 1100 Hz keeps a soprano's C6 in head voice.
+    pub whistle_min_hz: f64,
     /// A comfort-zone note must drift less than this (cents SD)...
     pub steady_drift_cents: f64,
     /// ...and keep its level within this SD (dB).
     pub steady_level_sd_db: f64,
+    /// A scale, sustain or song recording is singing when at least
+    /// `sung_share` of its voiced time lies in notes held this long...
+    pub sung_note_seconds: f64,
+    /// ...otherwise it is left out as speech or gliding.
+    pub sung_share: f64,
 }
 
 impl Default for ProfileConfig {
@@ -117,8 +126,11 @@ impl Default for ProfileConfig {
             sustain_min_seconds: 1.0,
             fry_max_hz: 70.0,
             fry_irregularity_cents: 40.0,
+            whistle_min_hz: 1100.0,
             steady_drift_cents: 25.0,
             steady_level_sd_db: 4.0,
+            sung_note_seconds: 0.3,
+            sung_share: 0.6,
         }
     }
 }
@@ -182,6 +194,15 @@ pub struct Passaggio {
     pub downward_midi: Option<f64>,
 }
 
+/// The sung notes of one register: where they lie and how long they were sung.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+pub struct RegisterSpan {
+    pub register: Register,
+    #[serde(flatten)]
+    pub span: PitchSpan,
+    pub seconds: f64,
+}
+
 /// A ranked voice type.
 #[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
 pub struct TypeShare {
@@ -208,6 +229,10 @@ pub struct Profile {
     /// Glide extremes: reached, not sustained.
     pub reached: Option<PitchSpan>,
     pub passaggi: Vec<Passaggio>,
+    /// The sung notes by register (fry, modal, falsetto, whistle). Modal
+    /// and falsetto are told apart only by a measured glide break.
+    #[serde(default)]
+    pub registers: Vec<RegisterSpan>,
     pub speaking_f0_hz: Option<f64>,
     pub timbre: Option<SpectralMeasures>,
     pub voice_type: VoiceTypeResult,
@@ -279,6 +304,86 @@ pub fn load_recordings(tasks: &[(Task, &Path)]) -> Vec<Result<Recording, VoiceEr
         .collect()
 }
 
+/// How much a recording's clipping and background noise lower the
+/// confidence of the figures read from it.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+pub struct RecordingQuality {
+    /// 1 for a clean recording, down to `MIN_QUALITY`.
+    pub factor: f64,
+    /// The voice's level over the background's, dB: the median level of
+    /// voiced frames less that of unvoiced frames (`None` without 0.2 s of
+    /// unvoiced frames to measure the background in).
+    pub snr_db: Option<f64>,
+    /// What lowered it, in plain words.
+    pub problems: Vec<String>,
+}
+
+/// The lowest quality factor: even a poor recording says something.
+pub const MIN_QUALITY: f64 = 0.4;
+
+/// Clipping and noise penalties (Ambit's own rule, not from a published
+/// source):
+/// - clipping: none up to 0.1 % of samples at full scale (where the decoder
+///   starts to warn), then a quarter per tenfold, so 1 % gives 0.75 and
+///   10 % gives 0.5. Clipped peaks add harmonics and flatten the spectrum, so
+///   timbre and register cues suffer first.
+/// - noise: none at 30 dB signal-to-noise or better, falling linearly to
+///   0.5 at 10 dB. The tracker evaluation (METHODS.md, Tracker evaluation)
+///   runs white noise at 40, 20 and 10 dB: at 10 dB voicing decisions and
+///   the spectral measures are visibly worse than on clean singing.
+///
+/// The factors multiply, floored at [`MIN_QUALITY`].
+pub fn recording_quality(recording: &Recording) -> RecordingQuality {
+    let mut problems = Vec::new();
+    let clipped = recording.clipped_share;
+    let clip_factor = if clipped > 0.001 {
+        let factor = (1.0 - 0.25 * (clipped / 0.001).log10()).max(0.5);
+        problems.push(format!(
+            "clipped: {:.1} % of samples are at full scale, so loud notes are distorted; every confidence read from it was lowered (×{factor:.2}). Record with more headroom.",
+            100.0 * clipped
+        ));
+        factor
+    } else {
+        1.0
+    };
+    let mut voiced_levels = Vec::new();
+    let mut unvoiced_levels = Vec::new();
+    for frame in &recording.track.frames {
+        if frame.voiced {
+            voiced_levels.push(frame.level_db);
+        } else {
+            unvoiced_levels.push(frame.level_db);
+        }
+    }
+    let median = |mut levels: Vec<f64>| -> Option<f64> {
+        levels.sort_by(f64::total_cmp);
+        levels.get(levels.len() / 2).copied()
+    };
+    let hop = recording.track.hop_seconds.max(1e-3);
+    let snr_db = if unvoiced_levels.len() as f64 * hop >= 0.2 {
+        median(voiced_levels)
+            .zip(median(unvoiced_levels))
+            .map(|(voice, background)| voice - background)
+    } else {
+        None
+    };
+    let noise_factor = match snr_db {
+        Some(snr) if snr < 30.0 => {
+            let factor = 0.5 + 0.5 * ((snr - 10.0) / 20.0).clamp(0.0, 1.0);
+            problems.push(format!(
+                "noisy: the voice is only {snr:.0} dB above the background noise, so pitch and timbre readings are less certain; every confidence read from it was lowered (×{factor:.2}). Record in a quieter room, closer to the microphone."
+            ));
+            factor
+        }
+        _ => 1.0,
+    };
+    RecordingQuality {
+        factor: (clip_factor * noise_factor).max(MIN_QUALITY),
+        snr_db,
+        problems,
+    }
+}
+
 /// Notes of one recording with the recording they came from.
 struct Analysed<'a> {
     recording: &'a Recording,
@@ -307,7 +412,7 @@ pub fn profile(recordings: &[Recording], config: &ProfileConfig) -> Result<Profi
         return Err(VoiceError::NoRecordings);
     }
     let mut warnings = Vec::new();
-    let mut quality = 1.0_f64;
+    let mut qualities: Vec<(Task, f64)> = Vec::new();
     for recording in recordings {
         for warning in &recording.warnings {
             warnings.push(format!(
@@ -316,11 +421,15 @@ pub fn profile(recordings: &[Recording], config: &ProfileConfig) -> Result<Profi
                 recording.task.label()
             ));
         }
-        // Clipping above 1 % or a noise floor above −35 dBFS makes every
-        // measured figure less certain.
-        if recording.clipped_share > 0.01 || recording.noise_floor_db > -35.0 {
-            quality = quality.min(0.75);
+        let quality = recording_quality(recording);
+        for problem in &quality.problems {
+            warnings.push(format!(
+                "{} ({}): {problem}",
+                recording.file,
+                recording.task.label()
+            ));
         }
+        qualities.push((recording.task, quality.factor));
     }
 
     let analysed: Vec<Analysed> = recordings
@@ -337,7 +446,16 @@ pub fn profile(recordings: &[Recording], config: &ProfileConfig) -> Result<Profi
         let recording = item.recording;
         let voiced_seconds = recording.track.frames.iter().filter(|f| f.voiced).count() as f64
             * recording.track.hop_seconds;
-        let noted_seconds: f64 = item.notes.iter().map(SungNote::seconds).sum();
+        // Sung notes are held; spoken syllables are short (4–6 a second,
+        // about 0.2 s each: common practice, from memory) even where two
+        // run together at one pitch. So a sung task must hold most of its
+        // voiced time in notes of at least `sung_note_seconds`.
+        let noted_seconds: f64 = item
+            .notes
+            .iter()
+            .map(SungNote::seconds)
+            .filter(|&seconds| seconds >= config.sung_note_seconds)
+            .sum();
         let task = recording.task.label();
         if voiced_seconds < 0.3 {
             warnings.push(format!(
@@ -348,17 +466,30 @@ pub fn profile(recordings: &[Recording], config: &ProfileConfig) -> Result<Profi
         }
         if recording.task.is_sung()
             && recording.task != Task::Glide
-            && noted_seconds < 0.3 * voiced_seconds
+            && noted_seconds < config.sung_share * voiced_seconds
         {
             warnings.push(format!(
-                "{} ({task}): the voice never settles on a pitch ({noted_seconds:.1} of {voiced_seconds:.1} s voiced are held notes); it sounds like speech or gliding, not singing, and was left out",
-                recording.file
+                "{} ({task}): the voice seldom holds a pitch (only {noted_seconds:.1} of {voiced_seconds:.1} s voiced are notes held {:.1} s or longer); it sounds like speech or gliding, not singing, and was left out",
+                recording.file, config.sung_note_seconds
             ));
             continue;
         }
         usable_tasks.push(recording.task);
     }
     let usable = |item: &&Analysed| usable_tasks.contains(&item.recording.task);
+    // The confidence of a figure drops with the worst recording it is read
+    // from (clipping and noise: see `recording_quality`).
+    let quality_of = |tasks: &[Task]| {
+        qualities
+            .iter()
+            .filter(|(task, _)| tasks.contains(task) && usable_tasks.contains(task))
+            .map(|(_, factor)| *factor)
+            .fold(1.0_f64, f64::min)
+    };
+    let sung_quality = quality_of(&[Task::Glide, Task::Scale, Task::Sustain, Task::Song]);
+    let comfort_quality = quality_of(&[Task::Scale, Task::Song]);
+    let glide_quality = quality_of(&[Task::Glide]);
+    let overall_quality = quality_of(&Task::ALL);
     let missing_tasks: Vec<Task> = Task::ALL
         .into_iter()
         .filter(|task| !usable_tasks.contains(task))
@@ -410,8 +541,15 @@ pub fn profile(recordings: &[Recording], config: &ProfileConfig) -> Result<Profi
             Some(span.map_or((note.midi, note.midi), |(l, h)| (l.min(note.midi), h.max(note.midi))))
         })
         .ok_or_else(|| {
+            // Say why, per file and task: the warnings gathered so far name
+            // recordings with no voice, or speech where singing was asked.
+            let why = if warnings.is_empty() {
+                String::new()
+            } else {
+                format!(" ({})", warnings.join("; "))
+            };
             VoiceError::NoSinging(format!(
-                "no held sung note was found in {}; the singer needs to hold notes (sustain, scale or song tasks)",
+                "no held sung note was found in {}; the singer needs to hold notes (sustain, scale or song tasks){why}",
                 files.join(", ")
             ))
         })?;
@@ -484,7 +622,7 @@ pub fn profile(recordings: &[Recording], config: &ProfileConfig) -> Result<Profi
             + 0.3 * (steady_seconds / 15.0).min(1.0)
             + if has_scale { 0.1 } else { 0.0 }
             + if has_song { 0.1 } else { 0.0 })
-            * quality;
+            * comfort_quality;
         Comfort {
             span: PitchSpan::new(low, high),
             confidence: confidence.min(0.95),
@@ -500,7 +638,7 @@ pub fn profile(recordings: &[Recording], config: &ProfileConfig) -> Result<Profi
         let high = (range.high_midi - 4.0).max(low);
         Comfort {
             span: PitchSpan::new(low, high),
-            confidence: 0.3 * quality,
+            confidence: 0.3 * sung_quality,
             basis: "no scale or song to measure it from: estimated as a minor third above the lowest and a major third below the highest held note".into(),
         }
     };
@@ -596,7 +734,7 @@ pub fn profile(recordings: &[Recording], config: &ProfileConfig) -> Result<Profi
             name: nearest_name(candidate.midi),
             kind,
             source: PassaggioSource::Measured,
-            confidence: candidate.confidence * quality,
+            confidence: candidate.confidence * glide_quality,
             upward_midi: candidate.upward_midi,
             downward_midi: candidate.downward_midi,
         });
@@ -610,7 +748,7 @@ pub fn profile(recordings: &[Recording], config: &ProfileConfig) -> Result<Profi
     let classification = classify(&evidence);
     let best = classification.ranked[0].voice_type;
     let best_typical = best.typical();
-    let type_confidence = classification.ranked[0].confidence * quality;
+    let type_confidence = classification.ranked[0].confidence * overall_quality;
     for (kind, midi) in [
         (PassaggioKind::Primo, best_typical.primo_midi),
         (PassaggioKind::Secondo, best_typical.secondo_midi),
@@ -628,6 +766,44 @@ pub fn profile(recordings: &[Recording], config: &ProfileConfig) -> Result<Profi
         }
     }
     passaggi.sort_by(|a, b| a.midi.total_cmp(&b.midi));
+
+    // Registers of the sung notes: fry and whistle by pitch (and fry's
+    // irregularity); modal and falsetto either side of the strongest
+    // measured glide break, the M1→M2 transition.
+    let bounds = RegisterBounds {
+        fry_max_midi: fry_midi,
+        fry_irregularity_cents: config.fry_irregularity_cents,
+        break_midi: measured.first().map(|m| m.midi),
+        whistle_min_midi: hz_to_midi(config.whistle_min_hz).unwrap_or(85.0),
+    };
+    let mut registers: Vec<RegisterSpan> = Vec::new();
+    // The notes of the sung tasks other than glides, whose turns are
+    // reached, not sung.
+    for note in analysed
+        .iter()
+        .filter(usable)
+        .filter(|item| item.recording.task.is_sung() && item.recording.task != Task::Glide)
+        .flat_map(|item| item.notes.iter())
+    {
+        let Some(register) = note_register(note.midi, note.irregularity_cents, &bounds) else {
+            continue;
+        };
+        match registers.iter_mut().find(|r| r.register == register) {
+            Some(existing) => {
+                existing.span = PitchSpan::new(
+                    existing.span.low_midi.min(note.midi),
+                    existing.span.high_midi.max(note.midi),
+                );
+                existing.seconds += note.seconds();
+            }
+            None => registers.push(RegisterSpan {
+                register,
+                span: PitchSpan::new(note.midi, note.midi),
+                seconds: note.seconds(),
+            }),
+        }
+    }
+    registers.sort_by_key(|r| r.register);
 
     // Section: the best of the sections a voice of this type sings in.
     let allowed: &[&str] = match best {
@@ -677,7 +853,7 @@ pub fn profile(recordings: &[Recording], config: &ProfileConfig) -> Result<Profi
         .filter(|c| c.confidence >= 0.01)
         .map(|c| TypeShare {
             label: c.voice_type.label().into(),
-            confidence: c.confidence * quality,
+            confidence: c.confidence * overall_quality,
         })
         .collect();
     let mut profile_cautions = cautions();
@@ -685,10 +861,11 @@ pub fn profile(recordings: &[Recording], config: &ProfileConfig) -> Result<Profi
 
     Ok(Profile {
         range,
-        range_confidence: range_confidence * quality,
+        range_confidence: range_confidence * sung_quality,
         comfort,
         reached,
         passaggi,
+        registers,
         speaking_f0_hz,
         timbre,
         voice_type: VoiceTypeResult {
@@ -861,6 +1038,46 @@ mod tests {
     }
 
     #[test]
+    fn fry_is_left_out_of_the_range_and_registers_are_reported() {
+        // The tenor audition plus a second sustain: 1.5 s of creak at 60 Hz
+        // (MIDI 34.5) whose pitch alternates ±40 cents frame to frame. Fry
+        // is not part of the singing range (voice-range-profile practice;
+        // common practice), but it is reported as a register.
+        let mut recordings = tenor_audition();
+        let mut creak = recording(Task::Sustain, 1.8, |t| {
+            let frame = (t / HOP).round() as i64;
+            (t > 0.1 && t < 1.6).then(|| 34.5 + if frame % 2 == 0 { 0.4 } else { -0.4 })
+        });
+        creak.file = "creak.wav".into();
+        recordings.push(creak);
+        let profile = profile(&recordings, &ProfileConfig::default()).unwrap();
+        assert!(
+            (profile.range.low_midi - 48.0).abs() < 0.5,
+            "{:?}",
+            profile.range
+        );
+        let span = |register: Register| {
+            profile
+                .registers
+                .iter()
+                .find(|r| r.register == register)
+                .unwrap_or_else(|| panic!("no {register:?} in {:?}", profile.registers))
+        };
+        assert!((span(Register::Fry).span.low_midi - 34.5).abs() < 0.2);
+        // The glide broke near G#4 (68), so the held C3 is modal and the
+        // held B4 (71) falsetto.
+        assert!((span(Register::Modal).span.low_midi - 48.0).abs() < 0.5);
+        assert!((span(Register::Falsetto).span.high_midi - 71.0).abs() < 0.5);
+        assert!(span(Register::Modal).span.high_midi < 69.0);
+        assert!(
+            !profile
+                .registers
+                .iter()
+                .any(|r| r.register == Register::Whistle)
+        );
+    }
+
+    #[test]
     fn missing_tasks_degrade_gracefully() {
         // Without the glide the passaggi are typical, not measured; without
         // speech there is no speaking f0; the output says what was missing.
@@ -919,6 +1136,31 @@ mod tests {
             profile.warnings
         );
         assert!(profile.missing_tasks.contains(&Task::Song));
+    }
+
+    #[test]
+    fn quality_falls_with_noise_and_clipping_but_not_with_a_quiet_clean_take() {
+        // A sustain whose voiced frames sit `snr` dB over its unvoiced ones.
+        let take = |snr_db: f64, clipped_share: f64| {
+            let mut recording = sung(Task::Sustain, &[(60.0, 2.0), (67.0, 2.0)]);
+            for frame in &mut recording.track.frames {
+                frame.level_db = if frame.voiced { -40.0 } else { -40.0 - snr_db };
+            }
+            recording.clipped_share = clipped_share;
+            recording_quality(&recording)
+        };
+        // Quiet (−40 dBFS) but 50 dB over the background: nothing to lower.
+        let clean = take(50.0, 0.0);
+        assert_eq!(clean.factor, 1.0);
+        assert!(clean.problems.is_empty(), "{:?}", clean.problems);
+        // Worse SNR, lower factor; each problem is named.
+        let (twenty, ten) = (take(20.0, 0.0), take(10.0, 0.0));
+        assert!(ten.factor < twenty.factor && twenty.factor < 1.0);
+        assert!(ten.problems.iter().any(|p| p.starts_with("noisy")));
+        let (one, ten_percent) = (take(50.0, 0.01), take(50.0, 0.1));
+        assert!(ten_percent.factor < one.factor && one.factor < 1.0);
+        assert!(one.problems.iter().any(|p| p.starts_with("clipped")));
+        assert!(take(5.0, 0.5).factor >= MIN_QUALITY);
     }
 
     #[test]

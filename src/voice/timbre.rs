@@ -8,6 +8,10 @@
 //! - H1–H2: level of the first harmonic minus the second, in dB. It rises
 //!   when the voice changes from modal (chest) to falsetto/head register
 //!   (Roubeau, Henrich & Castellengo 2009; Salomão & Sundberg 2008).
+//! - Alpha ratio: energy in 1–5 kHz over 50 Hz–1 kHz, in dB (Frøkjær-Jensen
+//!   & Prytz 1976, "Registration of voice quality"), a measure of spectral
+//!   tilt: it falls as the spectrum steepens, as it does from modal into
+//!   falsetto (Salomão & Sundberg 2008).
 
 use std::sync::Arc;
 
@@ -24,6 +28,10 @@ pub struct SpectralMeasures {
     pub centroid_hz: f64,
     pub singers_formant_db: f64,
     pub h1_h2_db: f64,
+    /// Spectral tilt as the alpha ratio (1–5 kHz over 50 Hz–1 kHz, dB);
+    /// `None` in profiles stored before it was measured.
+    #[serde(default)]
+    pub alpha_ratio_db: Option<f64>,
 }
 
 /// Measures spectra of a mono signal at chosen times.
@@ -97,6 +105,8 @@ impl SpectrumAnalyser {
         };
         let singers_formant_db =
             10.0 * ((band(2500.0, 3500.0) + 1e-20) / (band(50.0, 2000.0) + 1e-20)).log10();
+        let alpha_ratio_db =
+            10.0 * ((band(1000.0, 5000.0) + 1e-20) / (band(50.0, 1000.0) + 1e-20)).log10();
         // Harmonic level: the power of the largest bin within ±3 % of the
         // harmonic plus its two neighbours. With a Hann window that sum is
         // within 0.1 dB whatever the tone's offset from the bin centre,
@@ -120,6 +130,7 @@ impl SpectrumAnalyser {
             centroid_hz,
             singers_formant_db,
             h1_h2_db,
+            alpha_ratio_db: Some(alpha_ratio_db),
         })
     }
 }
@@ -142,6 +153,7 @@ pub fn median_measures(measures: &[SpectralMeasures]) -> Option<SpectralMeasures
         centroid_hz: median(|m| m.centroid_hz)?,
         singers_formant_db: median(|m| m.singers_formant_db)?,
         h1_h2_db: median(|m| m.h1_h2_db)?,
+        alpha_ratio_db: median(|m| m.alpha_ratio_db.unwrap_or(f64::NAN)),
     })
 }
 
@@ -172,6 +184,27 @@ mod tests {
             (measures.h1_h2_db - 6.02).abs() < 0.3,
             "{}",
             measures.h1_h2_db
+        );
+    }
+
+    #[test]
+    fn alpha_ratio_compares_the_bands_above_and_below_one_kilohertz() {
+        // 500 Hz at amplitude 1 and 2 kHz at 0.1: the power ratio of the
+        // 1–5 kHz band to the 50 Hz–1 kHz band is 0.1², i.e. −20 dB
+        // (definition of the decibel).
+        let samples: Vec<f32> = (0..11025)
+            .map(|n| {
+                let t = n as f64 / 22050.0;
+                let tau = 2.0 * std::f64::consts::PI;
+                ((tau * 500.0 * t).sin() + 0.1 * (tau * 2000.0 * t).sin()) as f32
+            })
+            .collect();
+        let mut analyser = SpectrumAnalyser::new(22050);
+        let measures = analyser.measure(&samples, 0.25, 500.0).unwrap();
+        assert!(
+            (measures.alpha_ratio_db.unwrap() + 20.0).abs() < 0.5,
+            "{:?}",
+            measures.alpha_ratio_db
         );
     }
 

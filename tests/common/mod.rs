@@ -87,21 +87,6 @@ pub fn run_ambit(arguments: &[&str]) -> (bool, String, String) {
     )
 }
 
-/// A fixed pseudo-random sequence, so "random" test data is the same on
-/// every run: a 64-bit linear congruential generator with Knuth's MMIX
-/// constants (Knuth, TAOCP vol. 2, §3.3.4).
-pub struct Lcg(pub u64);
-
-impl Lcg {
-    pub fn next_u64(&mut self) -> u64 {
-        self.0 = self
-            .0
-            .wrapping_mul(6_364_136_223_846_793_005)
-            .wrapping_add(1_442_695_040_888_963_407);
-        self.0
-    }
-}
-
 /// A deflated zip archive of (name, bytes) entries, built in memory: for
 /// `.mxl` examples and zip bombs that are not worth committing.
 pub fn zip_archive(entries: &[(&str, &[u8])]) -> Vec<u8> {

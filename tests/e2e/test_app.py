@@ -11,7 +11,7 @@ Python's xml.etree, and the files on disk.
 Environment (set by scripts/e2e.sh):
   AMBIT_APP          the app binary
   TAURI_DRIVER       the tauri-driver binary
-  AMBIT_LIBRARY      a fresh folder: the app creates and seeds the library there
+  AMBIT_LIBRARY      the demo library (seeded by `ambit library init --demo`)
   AMBIT_AUDITION_DIR five WAV files, <task>.wav, of one invented singer
   AMBIT_SCREENSHOTS  where to save a screenshot of each screen
   AMBIT_MEASUREMENTS (optional) a JSON file for the timings and memory figures

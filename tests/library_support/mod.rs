@@ -21,6 +21,7 @@ pub fn profile(range: (f64, f64), comfort: (f64, f64)) -> Profile {
         },
         reached: None,
         passaggi: Vec::new(),
+        registers: Vec::new(),
         speaking_f0_hz: Some(120.0),
         timbre: None,
         voice_type: VoiceTypeResult {

@@ -8,7 +8,7 @@ use std::path::{Path, PathBuf};
 use ambit::fit::MappingSummary;
 use ambit::library::{Library, LibraryError, PieceInput, PieceRecord};
 use ambit::score::{Piece, ReadOptions, read_score};
-use ambit::sections::{Layout, MappingConfig, PartOverride, map_piece};
+use ambit::sections::{Layout, MappingConfig, PartOverride, PieceMapping, map_piece};
 use ambit::tessitura::{TessituraConfig, analyse_piece};
 use ambit::views::{ScoreJson, score_view};
 use serde::{Deserialize, Serialize};
@@ -136,12 +136,29 @@ pub fn read_stored(record: &PieceRecord) -> Result<Piece, String> {
 }
 
 fn stored_choice(library: &Library, title: &str) -> Result<MappingChoice, String> {
-    match library.piece_mapping(title).map_err(text)? {
-        // A mapping stored by another front end (the CLI keeps the engine's
-        // full mapping) is not a choice of ours: start from the default.
-        Some(value) => Ok(serde_json::from_value(value).unwrap_or_default()),
-        None => Ok(MappingChoice::default()),
+    let Some(value) = library.piece_mapping(title).map_err(text)? else {
+        return Ok(MappingChoice::default());
+    };
+    // The CLI and the demo seeding store the engine's whole mapping: keep
+    // its layout (the sections it maps to), with no overrides.
+    if let Ok(mapping) = serde_json::from_value::<PieceMapping>(value.clone()) {
+        let labels: Vec<String> = mapping
+            .sections
+            .iter()
+            .map(|(section, _)| section.to_string())
+            .collect();
+        // Named as the layout that has exactly these sections, when one does.
+        let named = ["SATB", "SSAATTBB", "SSA", "SSAA", "TTBB", "SAB"]
+            .into_iter()
+            .find(|name| Layout::parse(name).is_ok_and(|layout| layout.labels() == labels))
+            .map_or_else(|| labels.join(","), str::to_string);
+        return Ok(MappingChoice {
+            layout: Some(named),
+            overrides: BTreeMap::new(),
+        });
     }
+    serde_json::from_value(value)
+        .map_err(|error| format!("the section mapping of {title} cannot be read: {error}"))
 }
 
 #[tauri::command]

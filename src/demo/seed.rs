@@ -1,0 +1,281 @@
+//! The demo library: the demo choir's synthesised auditions written as WAV
+//! files, profiled, and stored with the sample scores as one programme, so
+//! the desktop app and the CLI can open a library with real content at once.
+//!
+//! Architecture invariant: everything goes through the library's public API
+//! (`add_audition`, `add_piece`): a seeded library is an ordinary library,
+//! and seeding that fails part way leaves only whole auditions and pieces.
+
+use std::path::{Path, PathBuf};
+
+use rayon::prelude::*;
+
+use super::{DEMO_CHOIR, DemoSinger, synthesise_task, task_seed};
+use crate::library::{AuditionInput, Library, LibraryError, PieceInput, RecordingInput};
+use crate::roster::{Roster, Singer};
+use crate::score::{ReadOptions, read_score};
+use crate::sections::{Layout, MappingConfig, map_piece};
+use crate::synth::write_wav;
+use crate::tessitura::{TessituraConfig, analyse_piece};
+use crate::voice::{ProfileConfig, Task, load_recordings, profile};
+
+/// The programme the sample scores form in the demo library.
+pub const DEMO_PROGRAMME: &str = "Harbour Lights";
+
+/// The layout the demo choir sings in.
+pub const DEMO_LAYOUT: &str = "SSAATTBB";
+
+/// The date the demo auditions are stored under.
+pub const DEMO_AUDITION_DATE: &str = "2026-09-05";
+
+/// The four sample scores, embedded so the demo works from any folder:
+/// (file name, bytes). They are this project's own compositions
+/// (`sample-scores/README.md`).
+pub const SAMPLE_SCORES: [(&str, &[u8]); 4] = [
+    (
+        "lanterns-on-the-quay.mxl",
+        include_bytes!("../../sample-scores/lanterns-on-the-quay.mxl"),
+    ),
+    (
+        "the-tide-clock.mxl",
+        include_bytes!("../../sample-scores/the-tide-clock.mxl"),
+    ),
+    (
+        "the-lamplighter.mxl",
+        include_bytes!("../../sample-scores/the-lamplighter.mxl"),
+    ),
+    (
+        "haul-away.mxl",
+        include_bytes!("../../sample-scores/haul-away.mxl"),
+    ),
+];
+
+/// A file-system-safe folder name for a singer: lower case ASCII letters and
+/// digits, other characters as `-`.
+pub fn singer_slug(name: &str) -> String {
+    let mut slug = String::new();
+    for character in name.chars() {
+        if character.is_ascii_alphanumeric() {
+            slug.push(character.to_ascii_lowercase());
+        } else if !slug.ends_with('-') {
+            slug.push('-');
+        }
+    }
+    slug.trim_matches('-').to_string()
+}
+
+/// The seed the demo uses for the `index`-th singer of [`DEMO_CHOIR`], so
+/// every front end synthesises the same recordings.
+pub fn audition_seed(index: usize) -> u64 {
+    1000 + index as u64
+}
+
+/// Synthesises one singer's five audition tasks and writes them as 16-bit
+/// WAV files `<folder>/<task>.wav`. Returns the files with their tasks.
+pub fn write_audition_files(
+    singer: &DemoSinger,
+    seed: u64,
+    folder: &Path,
+) -> Result<Vec<RecordingInput>, LibraryError> {
+    let io_error = |source| LibraryError::Io {
+        file: folder.to_path_buf(),
+        source,
+    };
+    std::fs::create_dir_all(folder).map_err(io_error)?;
+    Task::ALL
+        .iter()
+        .enumerate()
+        .map(|(index, &task)| {
+            let synthesis =
+                synthesise_task(singer, task, task_seed(seed, index)).map_err(|error| {
+                    LibraryError::Invalid {
+                        file: folder.to_path_buf(),
+                        message: format!("{} ({}): {error}", singer.name, task.label()),
+                    }
+                })?;
+            let path = folder.join(format!("{}.wav", task.label()));
+            write_wav(&path, &synthesis).map_err(|error| LibraryError::Invalid {
+                file: path.clone(),
+                message: error.to_string(),
+            })?;
+            Ok(RecordingInput { task, path })
+        })
+        .collect()
+}
+
+/// Writes the embedded sample scores into `folder`; returns their paths.
+pub fn write_sample_scores(folder: &Path) -> Result<Vec<PathBuf>, LibraryError> {
+    std::fs::create_dir_all(folder).map_err(|source| LibraryError::Io {
+        file: folder.to_path_buf(),
+        source,
+    })?;
+    SAMPLE_SCORES
+        .iter()
+        .map(|(name, bytes)| {
+            let path = folder.join(name);
+            std::fs::write(&path, bytes).map_err(|source| LibraryError::Io {
+                file: path.clone(),
+                source,
+            })?;
+            Ok(path)
+        })
+        .collect()
+}
+
+/// The demo choir as a typed-in roster: the figures a director would type
+/// from earlier seasons, before any audition is measured.
+pub fn demo_roster() -> Roster {
+    Roster {
+        singers: DEMO_CHOIR
+            .iter()
+            .map(|singer| Singer {
+                name: singer.name.to_string(),
+                range_low_midi: singer.range_low_midi,
+                range_high_midi: singer.range_high_midi,
+                comfort_low_midi: singer.comfort_low_midi,
+                comfort_high_midi: singer.comfort_high_midi,
+                primo_midi: Some(singer.primo_midi),
+                secondo_midi: Some(singer.secondo_midi),
+                voice_type: Some(singer.voice_type.label().to_string()),
+                section: None,
+                notes: (!singer.notes.is_empty()).then(|| singer.notes.to_string()),
+            })
+            .collect(),
+    }
+}
+
+/// What seeding stored.
+#[derive(Debug, Clone, PartialEq, serde::Serialize, serde::Deserialize)]
+pub struct SeedReport {
+    pub auditions: usize,
+    pub pieces: usize,
+    pub programme: String,
+}
+
+/// Fills `library` with the demo choir (each singer's synthesised audition,
+/// profiled and stored with its recordings) and the sample scores as the
+/// programme [`DEMO_PROGRAMME`], mapped to [`DEMO_LAYOUT`].
+///
+/// `staging` is a scratch folder for the generated files (it is removed
+/// afterwards; the library keeps its own copies). `progress(done, total,
+/// label)` is called after each stored item.
+pub fn seed_library(
+    library: &mut Library,
+    staging: &Path,
+    progress: &mut dyn FnMut(usize, usize, &str),
+) -> Result<SeedReport, LibraryError> {
+    let total = DEMO_CHOIR.len() + SAMPLE_SCORES.len();
+    let result = seed_into(library, staging, total, progress);
+    // The scratch copies are demo data, not personal data; a failure to
+    // remove them does not undo the seeding.
+    let _ = std::fs::remove_dir_all(staging);
+    result
+}
+
+fn seed_into(
+    library: &mut Library,
+    staging: &Path,
+    total: usize,
+    progress: &mut dyn FnMut(usize, usize, &str),
+) -> Result<SeedReport, LibraryError> {
+    // Synthesis and profiling are the slow part: run them in parallel, then
+    // store one audition per transaction in choir order.
+    let measured: Vec<Result<AuditionInput, LibraryError>> = DEMO_CHOIR
+        .par_iter()
+        .enumerate()
+        .map(|(index, singer)| {
+            let folder = staging.join("auditions").join(singer_slug(singer.name));
+            let recordings = write_audition_files(singer, audition_seed(index), &folder)?;
+            let tasks: Vec<(Task, &Path)> = recordings
+                .iter()
+                .map(|recording| (recording.task, recording.path.as_path()))
+                .collect();
+            let invalid = |message: String| LibraryError::Invalid {
+                file: folder.clone(),
+                message,
+            };
+            let loaded = load_recordings(&tasks)
+                .into_iter()
+                .collect::<Result<Vec<_>, _>>()
+                .map_err(|error| invalid(error.to_string()))?;
+            let measured = profile(&loaded, &ProfileConfig::default())
+                .map_err(|error| invalid(error.to_string()))?;
+            Ok(AuditionInput {
+                singer: singer.name.to_string(),
+                held_on: DEMO_AUDITION_DATE.to_string(),
+                recordings,
+                profile: measured,
+            })
+        })
+        .collect();
+    let mut done = 0;
+    for audition in measured {
+        let audition = audition?;
+        library.add_audition(&audition)?;
+        done += 1;
+        progress(done, total, &audition.singer);
+    }
+
+    let layout = Layout::parse(DEMO_LAYOUT).map_err(|error| LibraryError::Invalid {
+        file: staging.to_path_buf(),
+        message: error.to_string(),
+    })?;
+    for (index, path) in write_sample_scores(&staging.join("scores"))?
+        .into_iter()
+        .enumerate()
+    {
+        let invalid = |message: String| LibraryError::Invalid {
+            file: path.clone(),
+            message,
+        };
+        let piece =
+            read_score(&path, &ReadOptions::default()).map_err(|e| invalid(e.to_string()))?;
+        let analysis = analyse_piece(&piece, &TessituraConfig::default());
+        let mapping = map_piece(&piece, index, &layout, &MappingConfig::default())
+            .map_err(|e| invalid(e.to_string()))?;
+        let title = piece.title.clone().unwrap_or_else(|| {
+            path.file_stem()
+                .map(|stem| stem.to_string_lossy().into_owned())
+                .unwrap_or_else(|| format!("piece {}", index + 1))
+        });
+        let to_json = |value: serde_json::Result<serde_json::Value>| {
+            value.map_err(|error| invalid(error.to_string()))
+        };
+        library.add_piece(
+            &PieceInput {
+                title: title.clone(),
+                score: path.clone(),
+                analysis: to_json(serde_json::to_value(&analysis))?,
+                mapping: Some(to_json(serde_json::to_value(&mapping))?),
+            },
+            Some(DEMO_PROGRAMME),
+        )?;
+        done += 1;
+        progress(done, total, &title);
+    }
+    Ok(SeedReport {
+        auditions: DEMO_CHOIR.len(),
+        pieces: SAMPLE_SCORES.len(),
+        programme: DEMO_PROGRAMME.to_string(),
+    })
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn slugs_are_safe_folder_names() {
+        assert_eq!(singer_slug("Maren Oakes-Whitby"), "maren-oakes-whitby");
+        assert_eq!(singer_slug("  Ö. Lund / 2 "), "lund-2");
+    }
+
+    #[test]
+    fn embedded_scores_read_as_scores() {
+        for (name, bytes) in SAMPLE_SCORES {
+            let piece =
+                crate::score::read_score_bytes(Path::new(name), bytes, &ReadOptions::default());
+            assert!(piece.is_ok(), "{name}: {:?}", piece.err());
+        }
+    }
+}
