@@ -178,7 +178,7 @@ where
     f32: FromSample<T>,
 {
     device.build_input_stream(
-        config.clone(),
+        *config,
         move |data: &[T], _: &cpal::InputCallbackInfo| {
             // Mono: the mean of the channels of each frame.
             let mono: Vec<f32> = data

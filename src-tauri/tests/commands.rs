@@ -193,7 +193,7 @@ fn an_audition_of_a_held_a3_measures_a3_and_deleting_the_singer_removes_the_file
         "{low}–{high}"
     );
     assert!(
-        !result["cautions"].as_array().map_or(true, Vec::is_empty),
+        !result["cautions"].as_array().is_none_or(Vec::is_empty),
         "the cautions come with every profile"
     );
 
