@@ -1,33 +1,24 @@
 #!/usr/bin/env bash
 # The whole test suite, from a fresh Debian/Ubuntu machine.
 #
-# Installs what the tests need (system packages, a Python venv with the
-# reference libraries in tests/reference/requirements.txt), then runs every
-# Rust test with the reference comparisons switched to "must run". Caches live
-# outside the clone, in $AMBIT_CACHE (default ~/.cache/ambit), so a second run
-# only rebuilds what changed.
+# Installs what the tests need (system packages for the engine and the Tauri
+# desktop app, a Python venv with the reference libraries in
+# tests/reference/requirements.txt), builds and tests the UI (ui/), then runs
+# every Rust test with the reference comparisons switched to "must run", and
+# finally the desktop app's end-to-end suite under Xvfb (scripts/e2e.sh).
+# Caches live outside the clone, in $AMBIT_CACHE (default ~/.cache/ambit):
+# the cargo target dir, the venvs and tauri-driver, so a second run only
+# rebuilds what changed.
 set -euo pipefail
 
-root=$(cd "$(dirname "${BASH_SOURCE[0]}")/.." && pwd)
-cache=${AMBIT_CACHE:-$HOME/.cache/ambit}
-mkdir -p "$cache"
+source "$(dirname "${BASH_SOURCE[0]}")/common.sh"
 cd "$root"
 
-say() { printf '\n== %s\n' "$*"; }
-
 # --- system packages -------------------------------------------------------
-apt_packages=(python3 python3-venv pkg-config)
-missing=()
-for package in "${apt_packages[@]}"; do
-  dpkg -s "$package" >/dev/null 2>&1 || missing+=("$package")
-done
-if ((${#missing[@]})); then
-  say "installing system packages: ${missing[*]}"
-  sudo_cmd=()
-  [ "$(id -u)" -eq 0 ] || sudo_cmd=(sudo)
-  "${sudo_cmd[@]}" apt-get update -qq
-  DEBIAN_FRONTEND=noninteractive "${sudo_cmd[@]}" apt-get install -y -qq --no-install-recommends "${missing[@]}"
-fi
+# The engine and references (python3, python3-venv, pkg-config), the desktop
+# app (common.sh: WebKitGTK, build tools, ALSA, Node.js) and the e2e suite
+# (Xvfb, WebKitWebDriver).
+ensure_packages python3 python3-venv pkg-config "${app_packages[@]}" "${e2e_packages[@]}"
 
 # --- Python reference libraries --------------------------------------------
 requirements=tests/reference/requirements.txt
@@ -51,11 +42,18 @@ export MPLBACKEND=Agg
 # code crashes pyin. A generic modern target avoids it without changing results.
 export NUMBA_CPU_NAME=${NUMBA_CPU_NAME:-haswell}
 
+# --- UI (before any cargo build: the app embeds ui/dist) --------------------
+"$root/scripts/build-ui.sh" --test
+
 # --- Rust ------------------------------------------------------------------
-export CARGO_TARGET_DIR=${CARGO_TARGET_DIR:-$cache/target}
 say "cargo fmt --check"
 cargo fmt --all --check
 say "cargo clippy"
 cargo clippy --workspace --all-targets --locked -- -D warnings
 say "cargo test"
 cargo test --workspace --locked
+
+# --- Desktop app end to end --------------------------------------------------
+say "build the desktop app (debug)"
+cargo build -p ambit-app --locked
+"$root/scripts/e2e.sh"

@@ -27,4 +27,5 @@ pub mod synth;
 pub mod tessitura;
 pub mod track;
 pub mod transpose;
+pub mod views;
 pub mod voice;

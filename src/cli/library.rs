@@ -476,16 +476,7 @@ pub fn run(arguments: LibraryArgs) -> anyhow::Result<()> {
                     .with_context(|| format!("{}: not JSON", path.display()))
             };
             let result = read_json(&result)?;
-            let layout = result
-                .get("layout")
-                .and_then(|layout| layout.as_array())
-                .map(|sections| {
-                    sections
-                        .iter()
-                        .filter_map(|section| section.as_str())
-                        .collect::<Vec<_>>()
-                        .join(",")
-                });
+            let layout = ambit::views::place_view_layout(&result);
             let constraints = match constraints {
                 Some(path) => read_json(&path)?,
                 None => serde_json::json!({}),

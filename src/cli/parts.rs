@@ -1,15 +1,13 @@
 //! `ambit parts SCORE…`: per-part tessitura as a table or JSON.
 
-use std::collections::BTreeMap;
 use std::path::PathBuf;
-
-use anyhow::Context;
-use clap::Args;
-use serde::Serialize;
 
 use ambit::pitch::{Tuning, midi_name_in_key};
 use ambit::score::{PartKind, ReadOptions, read_score};
-use ambit::tessitura::{HotSpotKind, PERCENTILES, PartTessitura, TessituraConfig, analyse_piece};
+use ambit::tessitura::{HotSpotKind, PartTessitura, TessituraConfig, analyse_piece};
+use ambit::views::{ScoreJson, score_view};
+use anyhow::Context;
+use clap::Args;
 
 #[derive(Debug, Args)]
 pub struct PartsArgs {
@@ -27,113 +25,6 @@ pub struct PartsArgs {
     pub a4: f64,
 }
 
-#[derive(Serialize)]
-struct ScoreJson {
-    file: String,
-    title: Option<String>,
-    parts: Vec<PartJson>,
-    warnings: Vec<String>,
-}
-
-#[derive(Serialize)]
-struct PartJson {
-    name: String,
-    kind: PartKind,
-    notes: usize,
-    sung_seconds: f64,
-    sung_quarters: f64,
-    lowest_midi: i64,
-    highest_midi: i64,
-    lowest: String,
-    highest: String,
-    mean_midi: f64,
-    sd_semitones: f64,
-    percentiles_midi: BTreeMap<String, f64>,
-    mean_midi_quarters: f64,
-    sd_semitones_quarters: f64,
-    histogram_seconds: BTreeMap<String, f64>,
-    histogram_quarters: BTreeMap<String, f64>,
-    longest_note: LongestJson,
-    hot_spots: Vec<HotSpotJson>,
-    time_dose_seconds: f64,
-    cycle_dose: f64,
-    #[serde(skip_serializing_if = "Vec::is_empty")]
-    divisi: Vec<PartJson>,
-}
-
-#[derive(Serialize)]
-struct LongestJson {
-    midi: f64,
-    name: String,
-    seconds: f64,
-    bars: String,
-}
-
-#[derive(Serialize)]
-struct HotSpotJson {
-    kind: HotSpotKind,
-    bars: String,
-    start_seconds: f64,
-    end_seconds: f64,
-    mean_midi: f64,
-}
-
-fn part_json(part: &PartTessitura, fifths: i32) -> PartJson {
-    let name = |midi: f64| midi_name_in_key(midi.round() as i32, fifths);
-    let keyed = |histogram: &BTreeMap<i32, f64>| {
-        histogram
-            .iter()
-            .map(|(midi, weight)| (midi.to_string(), *weight))
-            .collect()
-    };
-    PartJson {
-        name: part.name.clone(),
-        kind: part.kind,
-        notes: part.notes,
-        sung_seconds: part.sung_seconds,
-        sung_quarters: part.sung_quarters,
-        lowest_midi: part.lowest_midi.round() as i64,
-        highest_midi: part.highest_midi.round() as i64,
-        lowest: name(part.lowest_midi),
-        highest: name(part.highest_midi),
-        mean_midi: part.over_seconds.mean_midi,
-        sd_semitones: part.over_seconds.sd_semitones,
-        percentiles_midi: PERCENTILES
-            .iter()
-            .zip(part.over_seconds.percentiles_midi)
-            .map(|(p, midi)| (format!("{p:.0}"), midi))
-            .collect(),
-        mean_midi_quarters: part.over_quarters.mean_midi,
-        sd_semitones_quarters: part.over_quarters.sd_semitones,
-        histogram_seconds: keyed(&part.histogram_seconds),
-        histogram_quarters: keyed(&part.histogram_quarters),
-        longest_note: LongestJson {
-            midi: part.longest_note.midi,
-            name: name(part.longest_note.midi),
-            seconds: part.longest_note.seconds,
-            bars: part.longest_note.bars.clone(),
-        },
-        hot_spots: part
-            .hot_spots
-            .iter()
-            .map(|spot| HotSpotJson {
-                kind: spot.kind,
-                bars: spot.bars.clone(),
-                start_seconds: spot.start_seconds,
-                end_seconds: spot.end_seconds,
-                mean_midi: spot.mean_midi,
-            })
-            .collect(),
-        time_dose_seconds: part.time_dose_seconds,
-        cycle_dose: part.cycle_dose,
-        divisi: part
-            .divisi
-            .iter()
-            .map(|line| part_json(line, fifths))
-            .collect(),
-    }
-}
-
 pub fn run(arguments: PartsArgs) -> anyhow::Result<()> {
     let config = TessituraConfig {
         tuning: Tuning::with_a4(arguments.a4).context("--a4")?,
@@ -147,12 +38,7 @@ pub fn run(arguments: PartsArgs) -> anyhow::Result<()> {
         let piece = read_score(path, &options)?;
         let parts = analyse_piece(&piece, &config);
         let fifths = piece.key.map_or(0, |key| key.fifths);
-        reports.push(ScoreJson {
-            file: path.display().to_string(),
-            title: piece.title.clone(),
-            parts: parts.iter().map(|part| part_json(part, fifths)).collect(),
-            warnings: piece.warnings.clone(),
-        });
+        reports.push(score_view(&path.display().to_string(), &piece, &parts));
         if !arguments.json {
             print_table(&reports[reports.len() - 1], &parts, fifths);
         }

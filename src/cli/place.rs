@@ -7,7 +7,6 @@ use std::path::PathBuf;
 
 use anyhow::{Context, bail};
 use clap::Args;
-use serde::Serialize;
 
 use ambit::cautions::cautions;
 use ambit::placement::{Placement, PlacementError, RiskReason, SizeLimit};
@@ -16,6 +15,7 @@ use ambit::plan::{
     place_programme, plan_programme,
 };
 use ambit::report::{ReportDocument, write_report};
+use ambit::views::place_view;
 
 use super::write_stdout;
 use ambit::roster::read_roster;
@@ -66,49 +66,6 @@ pub struct PlaceArgs {
 enum Outcome {
     Plan(Box<ProgrammePlan>),
     Placed(Box<PlacedProgramme>),
-}
-
-#[derive(Serialize)]
-struct PlaceJson {
-    layout: Vec<String>,
-    section_fit: Vec<PairJson>,
-    assignments: Vec<AssignmentJson>,
-    objective: f64,
-    sections: Vec<SectionJson>,
-    at_risk: Vec<AtRiskJson>,
-    cautions: Vec<String>,
-    /// Who sings the upper and who the lower line of each divisi.
-    divisi: Vec<DivisiChoice>,
-}
-
-#[derive(Serialize)]
-struct PairJson {
-    singer: String,
-    section: String,
-    fit: Option<f64>,
-}
-
-#[derive(Serialize)]
-struct AssignmentJson {
-    singer: String,
-    section: String,
-    fit: f64,
-}
-
-#[derive(Serialize)]
-struct SectionJson {
-    section: String,
-    count: usize,
-    /// `null` for an empty section.
-    mean_fit: Option<f64>,
-}
-
-#[derive(Serialize)]
-struct AtRiskJson {
-    singer: String,
-    section: String,
-    fit: f64,
-    reasons: Vec<String>,
 }
 
 /// "NAME=VALUE", split at the last '=' so names may contain one.
@@ -250,59 +207,7 @@ pub fn run(arguments: PlaceArgs) -> anyhow::Result<()> {
         )?;
         eprintln!("wrote {}", path.display());
     }
-    let json = {
-        let json = PlaceJson {
-            layout: matrix.sections.clone(),
-            section_fit: matrix
-                .singers
-                .iter()
-                .zip(&matrix.fit)
-                .flat_map(|(singer, row)| {
-                    matrix
-                        .sections
-                        .iter()
-                        .zip(row)
-                        .map(|(section, fit)| PairJson {
-                            singer: singer.clone(),
-                            section: section.clone(),
-                            fit: *fit,
-                        })
-                })
-                .collect(),
-            assignments: placement
-                .assignments
-                .iter()
-                .map(|assignment| AssignmentJson {
-                    singer: assignment.singer.clone(),
-                    section: assignment.section.clone(),
-                    fit: assignment.fit,
-                })
-                .collect(),
-            objective: placement.objective,
-            sections: placement
-                .sections
-                .iter()
-                .map(|section| SectionJson {
-                    section: section.section.clone(),
-                    count: section.count,
-                    mean_fit: section.mean_fit,
-                })
-                .collect(),
-            at_risk: placement
-                .at_risk
-                .iter()
-                .map(|risk| AtRiskJson {
-                    singer: risk.singer.clone(),
-                    section: risk.section.clone(),
-                    fit: risk.fit,
-                    reasons: risk.reasons.iter().map(RiskReason::describe).collect(),
-                })
-                .collect(),
-            cautions: cautions(),
-            divisi: divisi.clone(),
-        };
-        serde_json::to_value(&json)?
-    };
+    let json = serde_json::to_value(place_view(matrix, placement, divisi))?;
     if let (Some(name), Some(mut library)) = (&arguments.save_scenario, library) {
         let id = library.save_scenario(&ambit::library::ScenarioInput {
             name: name.clone(),

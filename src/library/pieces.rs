@@ -236,6 +236,55 @@ impl Library {
         })
     }
 
+    /// The stored section mapping of a piece (`None` when none was set).
+    pub fn piece_mapping(&self, title: &str) -> Result<Option<serde_json::Value>, LibraryError> {
+        let text: Option<Option<String>> = self
+            .conn
+            .query_row(
+                "SELECT mapping_json FROM pieces WHERE title = ?1",
+                params![title.trim()],
+                |row| row.get(0),
+            )
+            .optional()
+            .map_err(|e| self.db_error(e))?;
+        let text = text.ok_or_else(|| LibraryError::NotFound {
+            file: self.database.clone(),
+            what: "piece",
+            name: title.to_string(),
+        })?;
+        text.map(|text| {
+            serde_json::from_str(&text).map_err(|error| LibraryError::Invalid {
+                file: self.database.clone(),
+                message: format!("the section mapping of {title} cannot be read: {error}"),
+            })
+        })
+        .transpose()
+    }
+
+    /// Replaces the stored section mapping of a piece (`None` clears it).
+    pub fn set_piece_mapping(
+        &mut self,
+        title: &str,
+        mapping: Option<&serde_json::Value>,
+    ) -> Result<(), LibraryError> {
+        let changed = self.write(|transaction, database| {
+            transaction
+                .execute(
+                    "UPDATE pieces SET mapping_json = ?2 WHERE title = ?1",
+                    params![title.trim(), mapping.map(json_text)],
+                )
+                .map_err(|source| super::database_error(database, source))
+        })?;
+        if changed == 0 {
+            return Err(LibraryError::NotFound {
+                file: self.database.clone(),
+                what: "piece",
+                name: title.to_string(),
+            });
+        }
+        Ok(())
+    }
+
     /// Saves a placement scenario with the current time.
     pub fn save_scenario(&mut self, input: &ScenarioInput) -> Result<i64, LibraryError> {
         if input.name.trim().is_empty() {

@@ -223,6 +223,23 @@ pub fn sniff_format(bytes: &[u8]) -> Option<Format> {
 
 /// Reads a score file of any supported format.
 pub fn read_score(path: &Path, options: &ReadOptions) -> Result<Piece, ScoreError> {
+    read_score_bytes(path, &read_limited(path)?, options)
+}
+
+/// Bars `first_bar`…`last_bar` (printed numbers) of the part named or
+/// identified `part` in a MusicXML or `.mxl` file, as a MusicXML document of
+/// their own (for a notation renderer).
+pub fn musicxml_excerpt(
+    path: &Path,
+    part: &str,
+    first_bar: &str,
+    last_bar: &str,
+) -> Result<String, ScoreError> {
+    musicxml::excerpt_bytes(path, &read_limited(path)?, part, first_bar, last_bar)
+}
+
+/// A score file's bytes, refusing files over [`MAX_SCORE_BYTES`] before reading.
+fn read_limited(path: &Path) -> Result<Vec<u8>, ScoreError> {
     let io_error = |source| ScoreError::Io {
         file: path.to_path_buf(),
         source,
@@ -235,7 +252,7 @@ pub fn read_score(path: &Path, options: &ReadOptions) -> Result<Piece, ScoreErro
         });
     }
     let bytes = std::fs::read(path).map_err(io_error)?;
-    read_score_bytes(path, &bytes, options)
+    Ok(bytes)
 }
 
 /// Reads a score already in memory; `path` is used for messages only.

@@ -16,6 +16,7 @@
 //! every refusal is a [`ScoreError`] naming the file and the place.
 
 mod archive;
+pub mod excerpt;
 mod measures;
 mod perform;
 pub mod prescan;
@@ -36,6 +37,19 @@ pub fn read_musicxml(
     bytes: &[u8],
     options: &ReadOptions,
 ) -> Result<Piece, ScoreError> {
+    with_document(path, bytes, |_, document| {
+        let written = measures::read_document(path, document)?;
+        perform::perform(path, written, options)
+    })
+}
+
+/// Checks the input limits, decodes and parses the document, and hands the
+/// tree to `work`: the one way into a MusicXML tree.
+fn with_document<T>(
+    path: &Path,
+    bytes: &[u8],
+    work: impl FnOnce(&str, &roxmltree::Document<'_>) -> Result<T, ScoreError>,
+) -> Result<T, ScoreError> {
     if bytes.len() as u64 > super::MAX_SCORE_BYTES {
         return Err(ScoreError::TooLarge {
             file: path.to_path_buf(),
@@ -102,8 +116,38 @@ pub fn read_musicxml(
                 message,
             }
         })?;
-    let written = measures::read_document(path, &document)?;
-    perform::perform(path, written, options)
+    work(text, &document)
+}
+
+/// Bars `first_bar`…`last_bar` (printed numbers) of one part of a MusicXML
+/// or `.mxl` score already in memory, as a MusicXML document of their own.
+pub fn excerpt_bytes(
+    path: &Path,
+    bytes: &[u8],
+    part: &str,
+    first_bar: &str,
+    last_bar: &str,
+) -> Result<String, ScoreError> {
+    let xml = match super::sniff_format(bytes) {
+        Some(super::Format::CompressedMusicXml) => archive::extract_score(path, bytes)?.1,
+        Some(super::Format::MusicXml) => bytes.to_vec(),
+        Some(super::Format::Midi) => {
+            return Err(ScoreError::Unsupported {
+                file: path.to_path_buf(),
+                location: Location::Whole,
+                message: "a MIDI file carries no notation to show; import the piece's MusicXML for excerpts".into(),
+            });
+        }
+        None => {
+            return Err(ScoreError::UnknownFormat {
+                file: path.to_path_buf(),
+                message: "expected MusicXML (.musicxml, .xml, .mxl)".into(),
+            });
+        }
+    };
+    with_document(path, &xml, |text, document| {
+        excerpt::excerpt_of(path, text, document, part, first_bar, last_bar)
+    })
 }
 
 /// Line and column just past the last character.

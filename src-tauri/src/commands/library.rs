@@ -1,0 +1,76 @@
+//! Library commands: what is open, open another, create an empty one, go
+//! back to the demo library.
+
+use std::path::PathBuf;
+
+use ambit::library::Library;
+use serde::Serialize;
+use tauri::State;
+
+use crate::state::{AppState, open_or_seed};
+
+/// What the open library holds (`library_info`).
+#[derive(Debug, Clone, PartialEq, Serialize, serde::Deserialize)]
+#[serde(rename_all = "camelCase")]
+pub struct LibraryInfoView {
+    pub folder: String,
+    pub singers: u64,
+    pub archived: u64,
+    pub auditions: u64,
+    pub recordings: u64,
+    pub pieces: u64,
+    pub programmes: u64,
+    pub scenarios: u64,
+    pub schema_version: i64,
+    pub is_demo: bool,
+}
+
+pub fn info_of(state: &AppState) -> Result<LibraryInfoView, String> {
+    state.with_library_flag(|library, is_demo| {
+        let info = library.info()?;
+        Ok(LibraryInfoView {
+            folder: info.folder,
+            singers: info.singers,
+            archived: info.archived_singers,
+            auditions: info.auditions,
+            recordings: info.recordings,
+            pieces: info.pieces,
+            programmes: info.programmes,
+            scenarios: info.scenarios,
+            schema_version: info.schema_version,
+            is_demo,
+        })
+    })
+}
+
+#[tauri::command]
+pub fn library_info(state: State<'_, AppState>) -> Result<LibraryInfoView, String> {
+    info_of(&state)
+}
+
+#[tauri::command(async)]
+pub fn library_open(
+    state: State<'_, AppState>,
+    folder: PathBuf,
+) -> Result<LibraryInfoView, String> {
+    let library = Library::open(&folder).map_err(super::text)?;
+    state.replace_library(library, false);
+    info_of(&state)
+}
+
+#[tauri::command(async)]
+pub fn library_create_empty(
+    state: State<'_, AppState>,
+    folder: PathBuf,
+) -> Result<LibraryInfoView, String> {
+    let library = Library::create(&folder).map_err(super::text)?;
+    state.replace_library(library, false);
+    info_of(&state)
+}
+
+#[tauri::command(async)]
+pub fn library_open_demo(state: State<'_, AppState>) -> Result<LibraryInfoView, String> {
+    let (library, _) = open_or_seed(&state.demo_folder()?)?;
+    state.replace_library(library, true);
+    info_of(&state)
+}
