@@ -7,38 +7,19 @@
 use std::hint::black_box;
 
 use ambit::library::{AuditionInput, Library};
-use ambit::voice::{Comfort, PitchSpan, Profile, VoiceTypeResult};
+use ambit::voice::Profile;
 use criterion::{Criterion, criterion_group, criterion_main};
+
+#[path = "../tests/library_support/mod.rs"]
+mod library_support;
 
 const SINGERS: usize = 2_000;
 const AUDITIONS: usize = 5;
 
+/// A stored profile whose range and comfort zone move with `shift`
+/// semitones (the same hand-built profile as the library tests).
 fn profile(shift: f64) -> Profile {
-    Profile {
-        range: PitchSpan::new(45.0 + shift, 69.0 + shift),
-        range_confidence: 0.9,
-        comfort: Comfort {
-            span: PitchSpan::new(48.0 + shift, 65.0 + shift),
-            confidence: 0.8,
-            basis: "steady notes in the scale task".into(),
-        },
-        reached: None,
-        passaggi: Vec::new(),
-        registers: Vec::new(),
-        speaking_f0_hz: Some(118.0),
-        timbre: None,
-        voice_type: VoiceTypeResult {
-            label: "baritone".into(),
-            confidence: 0.6,
-            alternatives: Vec::new(),
-        },
-        section: "B1".into(),
-        section_runner_up: "T2".into(),
-        reasons: vec!["held range".into(), "comfort zone".into()],
-        cautions: ambit::cautions::cautions(),
-        missing_tasks: Vec::new(),
-        warnings: Vec::new(),
-    }
+    library_support::profile((45.0 + shift, 69.0 + shift), (48.0 + shift, 65.0 + shift))
 }
 
 fn bench_library(c: &mut Criterion) {
