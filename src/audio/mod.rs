@@ -221,6 +221,28 @@ fn read_up_to(f: &mut std::fs::File, buf: &mut [u8]) -> std::io::Result<usize> {
     Ok(filled)
 }
 
+/// Appends the mean of each frame's `channels` samples to `mono`. The
+/// general case sums a frame's samples in channel order from −0.0 (as
+/// `Iterator::sum` for f32 does) and multiplies by 1/channels; the mono and
+/// stereo loops are the same arithmetic written out (−0.0 + x = x exactly),
+/// so every case gives the same bits as the general one.
+fn mix_to_mono(interleaved: &[f32], channels: usize, mono: &mut Vec<f32>) {
+    let inverse = 1.0 / channels as f32;
+    match channels {
+        1 => mono.extend_from_slice(interleaved),
+        2 => mono.extend(
+            interleaved
+                .chunks_exact(2)
+                .map(|frame| (frame[0] + frame[1]) * inverse),
+        ),
+        _ => mono.extend(
+            interleaved
+                .chunks_exact(channels)
+                .map(|frame| frame.iter().fold(-0.0f32, |sum, &x| sum + x) * inverse),
+        ),
+    }
+}
+
 impl AudioReader {
     /// Rate of the chunks this reader yields, Hz.
     pub fn sample_rate(&self) -> u32 {
@@ -240,6 +262,20 @@ impl AudioReader {
     /// Frames read from the file so far, at the file's own rate.
     pub fn source_frames(&self) -> u64 {
         self.source_frames
+    }
+
+    /// Mono samples a whole decode is expected to yield, when the header
+    /// says (WAV: the frames the file holds, at the output rate); 0 when
+    /// unknown. Bounded by the file's size, so a damaged header cannot make
+    /// a caller reserve more than the file could fill.
+    pub fn expected_len(&self) -> usize {
+        let Source::Wav(s) = &self.source else {
+            return 0;
+        };
+        let frames = s.present_frames.min(s.promised_frames) as f64;
+        let scale = f64::from(self.sample_rate) / f64::from(self.source_sample_rate.max(1));
+        // A little slack for the resampler's rounding and tail.
+        usize::try_from((frames * scale).ceil() as u64 + 64).unwrap_or(0)
     }
 
     /// Length of the longest chunk yielded so far, samples.
@@ -283,24 +319,23 @@ impl AudioReader {
                 continue;
             }
             let channels = usize::from(self.source_channels.max(1));
-            for (i, x) in self.block.iter_mut().enumerate() {
-                if !x.is_finite() {
-                    *x = 0.0;
-                    self.non_finite += 1;
-                    if self.first_non_finite_frame.is_none() {
-                        self.first_non_finite_frame =
-                            Some(self.source_frames + (i / channels) as u64);
+            // Integer PCM is always finite: the full scan runs only when a
+            // quick vectorised check finds a NaN or infinity.
+            if !self.block.iter().all(|x| x.is_finite()) {
+                for (i, x) in self.block.iter_mut().enumerate() {
+                    if !x.is_finite() {
+                        *x = 0.0;
+                        self.non_finite += 1;
+                        if self.first_non_finite_frame.is_none() {
+                            self.first_non_finite_frame =
+                                Some(self.source_frames + (i / channels) as u64);
+                        }
                     }
                 }
             }
             self.report.push_channel_samples(&self.block);
             self.mono.clear();
-            let inverse = 1.0 / channels as f32;
-            self.mono.extend(
-                self.block
-                    .chunks_exact(channels)
-                    .map(|frame| frame.iter().sum::<f32>() * inverse),
-            );
+            mix_to_mono(&self.block, channels, &mut self.mono);
             self.report.push_mono(&self.mono);
             self.source_frames += self.mono.len() as u64;
             let out = match self.resampler.as_mut() {
@@ -397,7 +432,7 @@ impl AudioReader {
 /// [`AudioReader`]. Silent, too-short and empty recordings are errors.
 pub fn decode_file(path: &Path, options: &DecodeOptions) -> Result<Audio, AudioError> {
     let mut reader = open(path, options)?;
-    let mut samples = Vec::new();
+    let mut samples = Vec::with_capacity(reader.expected_len());
     while let Some(chunk) = reader.next_chunk()? {
         samples.extend_from_slice(&chunk);
     }

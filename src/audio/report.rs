@@ -82,14 +82,32 @@ impl ReportBuilder {
     }
 
     /// Counts clipping and peak over the individual channel samples.
+    ///
+    /// Eight running counts and maxima, merged at the end, so the loop
+    /// vectorises; counting and taking a maximum are exact in any order, so
+    /// the figures equal a sample-by-sample pass.
     pub(crate) fn push_channel_samples(&mut self, interleaved: &[f32]) {
-        for &x in interleaved {
-            let a = x.abs();
-            if a >= self.clip_level {
-                self.clipped += 1;
+        const LANES: usize = 8;
+        let clip_level = self.clip_level;
+        let mut clipped = [0u32; LANES];
+        let mut peak = [0.0f32; LANES];
+        let mut chunks = interleaved.chunks_exact(LANES);
+        for chunk in &mut chunks {
+            for lane in 0..LANES {
+                let a = chunk[lane].abs();
+                clipped[lane] += u32::from(a >= clip_level);
+                peak[lane] = if a > peak[lane] { a } else { peak[lane] };
             }
-            if a > self.peak {
-                self.peak = a;
+        }
+        for &x in chunks.remainder() {
+            let a = x.abs();
+            clipped[0] += u32::from(a >= clip_level);
+            peak[0] = if a > peak[0] { a } else { peak[0] };
+        }
+        for lane in 0..LANES {
+            self.clipped += u64::from(clipped[lane]);
+            if peak[lane] > self.peak {
+                self.peak = peak[lane];
             }
         }
         self.channel_samples += interleaved.len() as u64;
