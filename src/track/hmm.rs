@@ -546,9 +546,11 @@ impl Decoder {
             let low = bin.saturating_sub(half).max(live_low);
             let high = (bin + half + 1).min(live_high);
             for source in low..high {
-                best = best.max(
-                    slot.into_voiced[half + source] + transitions.log_triangle[source + half - bin],
-                );
+                // Compare-and-select: exact, and cheaper than f32::max (no
+                // NaN reaches here).
+                let candidate =
+                    slot.into_voiced[half + source] + transitions.log_triangle[source + half - bin];
+                best = if candidate > best { candidate } else { best };
             }
             if transitions.octave_jumps() {
                 let below = bin.checked_sub(transitions.octave_bins);
@@ -599,30 +601,38 @@ impl Decoder {
 
 /// Max-plus convolution of padded source scores with the triangle for the
 /// targets `first .. first + best.len()`: best[i] = max over offsets k of
-/// source[first + i + k] + triangle[k]. Written offset-major so the inner
-/// loop over bins vectorises; `best.len()` is a multiple of [`LANES`]. The
-/// winning offsets are not tracked here: only the states a decoded path
-/// passes through need them, and [`Transitions::predecessor`] finds those.
+/// source[first + i + k] + triangle[k]. Written target-major over chunks of
+/// [`LANES`] bins with the running maxima in registers, and the maximum as
+/// an unconditional compare-and-select, so the compiler emits SIMD max
+/// instructions (a conditional store does not vectorise; `f32::max`'s NaN
+/// handling costs extra instructions, and no NaN reaches here). The maximum
+/// is exact and order-free, so any loop order gives the same bits.
+/// `best.len()` is a multiple of [`LANES`]. The winning offsets are not
+/// tracked here: only the states a decoded path passes through need them,
+/// and [`Transitions::predecessor`] finds those.
 fn convolve(source: &[f32], triangle: &[f32], first: usize, best: &mut [f32]) {
-    best.fill(f32::NEG_INFINITY);
-    let width = best.len();
-    for (offset, &weight) in triangle.iter().enumerate() {
-        let Some(shifted) = source.get(first + offset..first + offset + width) else {
-            continue;
-        };
-        for (best, score) in best
-            .chunks_exact_mut(LANES)
-            .zip(shifted.chunks_exact(LANES))
-        {
+    for (chunk, out) in best.chunks_exact_mut(LANES).enumerate() {
+        let base = first + chunk * LANES;
+        let mut running = [f32::NEG_INFINITY; LANES];
+        for (offset, &weight) in triangle.iter().enumerate() {
+            // Sources past the padded end (never the case for the sizes
+            // `Decoder::push` allocates) contribute nothing.
+            let Some(scores) = source
+                .get(base + offset..base + offset + LANES)
+                .and_then(|scores| <&[f32; LANES]>::try_from(scores).ok())
+            else {
+                continue;
+            };
             for lane in 0..LANES {
-                // A compare-and-select, not f32::max, whose NaN handling
-                // costs extra instructions (no NaN reaches here).
-                let candidate = score[lane] + weight;
-                if candidate > best[lane] {
-                    best[lane] = candidate;
-                }
+                let candidate = scores[lane] + weight;
+                running[lane] = if candidate > running[lane] {
+                    candidate
+                } else {
+                    running[lane]
+                };
             }
         }
+        out.copy_from_slice(&running);
     }
 }
 
