@@ -374,6 +374,26 @@ fn fill_frame(
     }
 }
 
+/// Frame `index` as a slice of `source` (absolute samples `source_start..`),
+/// when all its samples lie inside both `source` and the signal
+/// `0..signal_end`: the same samples [`fill_frame`] would copy, without the
+/// copy. `None` at the signal's edges, where zeros pad the frame.
+fn inner_frame<'a>(
+    plan: &Plan,
+    index: usize,
+    source: &'a [f32],
+    source_start: i64,
+    signal_end: i64,
+) -> Option<&'a [f32]> {
+    let start = plan.frame_start(index);
+    let end = start + plan.layout.frame_samples as i64;
+    if start < 0 || end > signal_end {
+        return None;
+    }
+    let from = usize::try_from(start - source_start).ok()?;
+    source.get(from..from + plan.layout.frame_samples)
+}
+
 /// One frame's observation, before decoding.
 struct Observation {
     level_db: f64,
@@ -563,8 +583,22 @@ pub fn track_samples(
                     let mut bounds = Vec::with_capacity(end - start + 1);
                     bounds.push(0);
                     for index in start..end {
-                        fill_frame(&plan, index, source, source_start, signal_end, frame);
-                        observations.push(observe(&plan, analyser, frame, &mut candidates));
+                        let samples =
+                            match inner_frame(&plan, index, source, source_start, signal_end) {
+                                Some(samples) => samples,
+                                None => {
+                                    fill_frame(
+                                        &plan,
+                                        index,
+                                        source,
+                                        source_start,
+                                        signal_end,
+                                        frame,
+                                    );
+                                    &frame[..]
+                                }
+                            };
+                        observations.push(observe(&plan, analyser, samples, &mut candidates));
                         bounds.push(candidates.len());
                     }
                     (observations, candidates, bounds)

@@ -191,12 +191,18 @@ impl FrameAnalyser {
         let width = layout.integration_samples;
         let start = layout.window_start;
         let length = layout.frame_samples.min(frame.len());
-        self.frame_buffer.fill(0.0);
-        self.window_buffer.fill(0.0);
+        // The FFTs use their inputs as scratch, so both buffers are set in
+        // full every frame: samples where the frame (window) has them,
+        // zeros elsewhere.
         self.frame_buffer[..length].copy_from_slice(&frame[..length]);
+        self.frame_buffer[length..].fill(0.0);
         let window_end = (start + width).min(length);
         if start < window_end {
+            self.window_buffer[..start].fill(0.0);
             self.window_buffer[start..window_end].copy_from_slice(&frame[start..window_end]);
+            self.window_buffer[window_end..].fill(0.0);
+        } else {
+            self.window_buffer.fill(0.0);
         }
 
         self.cumulative_energy[0] = 0.0;
