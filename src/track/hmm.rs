@@ -611,25 +611,32 @@ impl Decoder {
 /// tracked here: only the states a decoded path passes through need them,
 /// and [`Transitions::predecessor`] finds those.
 fn convolve(source: &[f32], triangle: &[f32], first: usize, best: &mut [f32]) {
+    let max_into = |running: &mut [f32; LANES], scores: &[f32], weight: f32| {
+        for (running, &score) in running.iter_mut().zip(scores) {
+            let candidate = score + weight;
+            *running = if candidate > *running {
+                candidate
+            } else {
+                *running
+            };
+        }
+    };
+    // Sources a chunk of targets reads: LANES + 2w.
+    let span = LANES + triangle.len().saturating_sub(1);
     for (chunk, out) in best.chunks_exact_mut(LANES).enumerate() {
         let base = first + chunk * LANES;
         let mut running = [f32::NEG_INFINITY; LANES];
-        for (offset, &weight) in triangle.iter().enumerate() {
+        if let Some(window) = source.get(base..base + span) {
+            for (scores, &weight) in window.windows(LANES).zip(triangle) {
+                max_into(&mut running, scores, weight);
+            }
+        } else {
             // Sources past the padded end (never the case for the sizes
             // `Decoder::push` allocates) contribute nothing.
-            let Some(scores) = source
-                .get(base + offset..base + offset + LANES)
-                .and_then(|scores| <&[f32; LANES]>::try_from(scores).ok())
-            else {
-                continue;
-            };
-            for lane in 0..LANES {
-                let candidate = scores[lane] + weight;
-                running[lane] = if candidate > running[lane] {
-                    candidate
-                } else {
-                    running[lane]
-                };
+            for (offset, &weight) in triangle.iter().enumerate() {
+                if let Some(scores) = source.get(base + offset..base + offset + LANES) {
+                    max_into(&mut running, scores, weight);
+                }
             }
         }
         out.copy_from_slice(&running);
