@@ -122,9 +122,13 @@ pub struct FrameAnalyser {
     difference: Vec<f64>,
     normalised: Vec<f64>,
     troughs: Vec<usize>,
+    /// Room for every lag of the search range, for the branch-free scan.
+    trough_scratch: Vec<usize>,
     troughs_by_height: Vec<usize>,
     below: Vec<usize>,
     trough_probability: Vec<f64>,
+    /// Each lag as a float (0, 1, 2, …), for the normalisation.
+    lags: Vec<f64>,
     threshold_weights: [f64; THRESHOLD_COUNT],
     boltzmann_decay: Vec<f64>,
 }
@@ -155,9 +159,11 @@ impl FrameAnalyser {
             difference: vec![0.0; lag_count],
             normalised: vec![1.0; lag_count],
             troughs: Vec::with_capacity(lag_count),
+            trough_scratch: vec![0; lag_count],
             troughs_by_height: Vec::with_capacity(lag_count),
             below: Vec::with_capacity(lag_count),
             trough_probability: vec![0.0; lag_count],
+            lags: (0..lag_count).map(|lag| lag as f64).collect(),
             threshold_weights: beta_threshold_weights(),
             boltzmann_decay: (0..lag_count)
                 .map(|rank| (-BOLTZMANN_PARAMETER * rank as f64).exp())
@@ -206,9 +212,14 @@ impl FrameAnalyser {
         }
 
         self.cumulative_energy[0] = 0.0;
-        for index in 0..layout.frame_samples {
-            let sample = f64::from(self.frame_buffer[index]);
-            self.cumulative_energy[index + 1] = self.cumulative_energy[index] + sample * sample;
+        let mut total = 0.0;
+        for (slot, &sample) in self.cumulative_energy[1..]
+            .iter_mut()
+            .zip(&self.frame_buffer[..layout.frame_samples])
+        {
+            let sample = f64::from(sample);
+            total += sample * sample;
+            *slot = total;
         }
         let cumulative = &self.cumulative_energy;
         let window_energy = cumulative[start + width] - cumulative[start];
@@ -265,13 +276,33 @@ impl FrameAnalyser {
         let size = self.correlation.len();
         let scale = 1.0 / size as f64;
         let cumulative = &self.cumulative_energy;
-        for lag in 1..self.difference.len() {
-            let ahead = cumulative[start + lag + width] - cumulative[start + lag];
-            let behind = cumulative[start - lag + width] - cumulative[start - lag];
-            let cross = (f64::from(self.correlation[lag])
-                + f64::from(self.correlation[size - lag]))
-                * scale;
-            self.difference[lag] = (window_energy + 0.5 * (ahead + behind) - cross).max(0.0);
+        // For lag = 1..count, as slices walked together (forwards for
+        // +lag, backwards for −lag) so the loop has no bounds checks and
+        // vectorises; each element is computed exactly as
+        // E₀ + ½(E₊ + E₋) − (r(τ) + r(−τ))/size, clamped at 0.
+        let count = self.difference.len();
+        let ahead_end = &cumulative[start + width + 1..start + width + count];
+        let ahead_start = &cumulative[start + 1..start + count];
+        let behind_end = &cumulative[start + width + 1 - count..start + width];
+        let behind_start = &cumulative[start + 1 - count..start];
+        let forward = &self.correlation[1..count];
+        let backward = &self.correlation[size + 1 - count..size];
+        let terms = ahead_end
+            .iter()
+            .zip(ahead_start)
+            .zip(behind_end.iter().rev().zip(behind_start.iter().rev()))
+            .zip(forward.iter().zip(backward.iter().rev()));
+        for (
+            slot,
+            (((&ahead_end, &ahead_start), (&behind_end, &behind_start)), (&r_plus, &r_minus)),
+        ) in self.difference[1..].iter_mut().zip(terms)
+        {
+            let ahead = ahead_end - ahead_start;
+            let behind = behind_end - behind_start;
+            let cross = (f64::from(r_plus) + f64::from(r_minus)) * scale;
+            let value = window_energy + 0.5 * (ahead + behind) - cross;
+            // max(value, 0), NaN to 0, as f64::max(value, 0.0) here.
+            *slot = if value > 0.0 { value } else { 0.0 };
         }
         self.difference[0] = 0.0;
         window_energy
@@ -303,12 +334,23 @@ impl FrameAnalyser {
         }
 
         // Step 3: cumulative-mean-normalised difference d'(τ).
+        // Two passes: the running sums (a serial chain of additions), then
+        // the divisions, which are independent and vectorise.
         self.normalised[0] = 1.0;
         let mut running_sum = 0.0;
-        for lag in 1..self.difference.len() {
-            running_sum += self.difference[lag];
-            self.normalised[lag] = if running_sum > window_energy * 1e-12 {
-                self.difference[lag] * lag as f64 / running_sum
+        for (slot, &difference) in self.normalised[1..].iter_mut().zip(&self.difference[1..]) {
+            running_sum += difference;
+            *slot = running_sum;
+        }
+        let floor = window_energy * 1e-12;
+        for ((slot, &difference), &lag) in self.normalised[1..]
+            .iter_mut()
+            .zip(&self.difference[1..])
+            .zip(&self.lags[1..])
+        {
+            let running_sum = *slot;
+            *slot = if running_sum > floor {
+                difference * lag / running_sum
             } else {
                 1.0
             };
@@ -317,20 +359,27 @@ impl FrameAnalyser {
         // Troughs of d' within τmin..=τmax (local minima, strict on the left
         // as librosa's `localmin`; the range ends count when lower than their
         // one neighbour inside the range).
-        self.troughs.clear();
+        // The interior is tested without branches (a trough's position is
+        // written every time and kept by advancing the count), as noisy
+        // frames make the comparisons unpredictable.
         let (low, high) = (layout.min_lag, layout.max_lag);
         let values = &self.normalised;
-        for lag in low..=high {
-            let left_ok = lag == low || values[lag] < values[lag - 1];
-            let right_ok = if lag == high {
-                values[lag] < values[lag - 1]
-            } else {
-                values[lag] <= values[lag + 1]
-            };
-            if left_ok && right_ok {
-                self.troughs.push(lag);
-            }
+        let mut count = 0;
+        let mut push = |lag: usize, is_trough: bool| {
+            self.trough_scratch[count] = lag;
+            count += usize::from(is_trough);
+        };
+        push(low, values[low] <= values[low + 1]);
+        for lag in low + 1..high {
+            push(
+                lag,
+                (values[lag] < values[lag - 1]) & (values[lag] <= values[lag + 1]),
+            );
         }
+        push(high, values[high] < values[high - 1]);
+        self.troughs.clear();
+        self.troughs
+            .extend_from_slice(&self.trough_scratch[..count]);
         if self.troughs.is_empty() {
             return FrameSummary {
                 level_db,
