@@ -490,14 +490,27 @@ impl Decision {
     }
 }
 
-/// Checks that every sample is a number; names the first that is not.
+/// Checks that every sample is a number (naming the first that is not) and
+/// that there is at least one.
 fn check_samples(samples: &[f32], sample_rate: u32) -> Result<(), TrackError> {
-    if let Some(index) = samples.iter().position(|sample| !sample.is_finite()) {
+    // A branch-free pass per chunk (it vectorises); the search for the first
+    // bad sample runs only when there is one.
+    let all_finite = samples.chunks(4096).all(|chunk| {
+        chunk
+            .iter()
+            .fold(true, |finite, sample| finite & sample.is_finite())
+    });
+    if !all_finite && let Some(index) = samples.iter().position(|sample| !sample.is_finite()) {
         let value = samples.get(index).copied().unwrap_or(f32::NAN);
         return Err(TrackError::BadInput(format!(
             "sample {index} (at {:.3} s) is {value}, not a number; the signal cannot be tracked",
             index as f64 / f64::from(sample_rate)
         )));
+    }
+    if samples.is_empty() {
+        return Err(TrackError::BadInput(
+            "the signal is empty: there is nothing to track".into(),
+        ));
     }
     Ok(())
 }
@@ -518,18 +531,35 @@ pub fn track_samples(
 ) -> Result<Track, TrackError> {
     let plan = Plan::new(sample_rate, config)?;
     check_samples(samples, sample_rate)?;
-    if samples.is_empty() {
-        return Err(TrackError::BadInput(
-            "the signal is empty: there is nothing to track".into(),
-        ));
+    Ok(track_checked(&plan, samples, plan.low_pass()))
+}
+
+/// [`track_samples`] on a signal the caller gives up: the low-pass runs in
+/// place over the whole signal (the same causal pass, sample for sample, so
+/// the frames are identical) instead of into a copy.
+fn track_owned(
+    mut samples: Vec<f32>,
+    sample_rate: u32,
+    config: &TrackConfig,
+) -> Result<Track, TrackError> {
+    let plan = Plan::new(sample_rate, config)?;
+    check_samples(&samples, sample_rate)?;
+    if let Some(mut low_pass) = plan.low_pass() {
+        low_pass.process(&mut samples);
     }
+    Ok(track_checked(&plan, &samples, None))
+}
+
+/// The offline tracker over checked samples; `low_pass`, when given, is run
+/// over the signal round by round into a buffer of its own.
+fn track_checked(plan: &Plan, samples: &[f32], mut low_pass: Option<filter::LowPass>) -> Track {
+    let plan = *plan;
     let frame_count = plan.frame_count(samples.len());
     let signal_end = samples.len() as i64;
     // The band-limited signal is made round by round, one causal pass in
     // order (as the streaming tracker filters sample by sample), holding
     // only the samples the round's frames need: absolute samples
     // `filtered_start .. filtered_start + filtered.len()`.
-    let mut low_pass = plan.low_pass();
     let mut filtered: Vec<f32> = Vec::new();
     let mut filtered_start: i64 = 0;
     let mut decision = Decision::new(&plan);
@@ -620,11 +650,11 @@ pub fn track_samples(
         first_block = last_block;
     }
     decision.finish(&mut frames);
-    Ok(Track {
-        sample_rate,
-        hop_seconds: config.hop_seconds,
+    Track {
+        sample_rate: plan.layout.sample_rate,
+        hop_seconds: plan.config.hop_seconds,
         frames,
-    })
+    }
 }
 
 /// Tracks a signal that arrives in pieces (a microphone).
@@ -815,7 +845,7 @@ pub fn track_file(path: &Path, config: &TrackConfig) -> Result<TrackedFile, Trac
             target_sample_rate: Some(ANALYSIS_SAMPLE_RATE),
         },
     )?;
-    let track = track_samples(&decoded.samples, decoded.sample_rate, config).map_err(|source| {
+    let track = track_owned(decoded.samples, decoded.sample_rate, config).map_err(|source| {
         TrackFileError::Track {
             file: path.to_path_buf(),
             source,
