@@ -221,6 +221,15 @@ fn read_up_to(f: &mut std::fs::File, buf: &mut [u8]) -> std::io::Result<usize> {
     Ok(filled)
 }
 
+/// Appends `chunk` to `out`, moving it when `out` has no buffer yet.
+fn append(out: &mut Vec<f32>, chunk: Vec<f32>) {
+    if out.capacity() == 0 {
+        *out = chunk;
+    } else {
+        out.extend_from_slice(&chunk);
+    }
+}
+
 /// Appends the mean of each frame's `channels` samples to `mono`. The
 /// general case sums a frame's samples in channel order from −0.0 (as
 /// `Iterator::sum` for f32 does) and multiplies by 1/channels; the mono and
@@ -294,9 +303,17 @@ impl AudioReader {
     /// The next chunk of mono samples at [`Self::sample_rate`], or `None` at
     /// the end. Chunks are non-empty and at most a few thousand samples.
     pub fn next_chunk(&mut self) -> Result<Option<Vec<f32>>, AudioError> {
+        let mut chunk = Vec::new();
+        Ok(self.append_chunk(&mut chunk)?.then_some(chunk))
+    }
+
+    /// Appends the next chunk (as [`Self::next_chunk`] would return it) to
+    /// `out`; false at the end. Without resampling the mono mix is written
+    /// straight into `out`, so a whole-file decode copies each sample once.
+    fn append_chunk(&mut self, out: &mut Vec<f32>) -> Result<bool, AudioError> {
         loop {
             if self.done {
-                return Ok(None);
+                return Ok(false);
             }
             if self.input_done {
                 self.done = true;
@@ -305,10 +322,11 @@ impl AudioReader {
                     None => Vec::new(),
                 };
                 if tail.is_empty() {
-                    return Ok(None);
+                    return Ok(false);
                 }
                 self.largest_chunk = self.largest_chunk.max(tail.len());
-                return Ok(Some(tail));
+                append(out, tail);
+                return Ok(true);
             }
             let more = match &mut self.source {
                 Source::Wav(s) => s.next_block(&mut self.block),
@@ -334,22 +352,32 @@ impl AudioReader {
                 }
             }
             self.report.push_channel_samples(&self.block);
+            let Some(resampler) = self.resampler.as_mut() else {
+                // The mix is the chunk: never empty, as the block holds
+                // whole frames.
+                let begin = out.len();
+                mix_to_mono(&self.block, channels, out);
+                let mono = &out[begin..];
+                self.report.push_mono(mono);
+                self.source_frames += mono.len() as u64;
+                self.largest_chunk = self.largest_chunk.max(mono.len());
+                return Ok(true);
+            };
             self.mono.clear();
             mix_to_mono(&self.block, channels, &mut self.mono);
             self.report.push_mono(&self.mono);
             self.source_frames += self.mono.len() as u64;
-            let out = match self.resampler.as_mut() {
-                Some(r) => r
+            let resampled =
+                resampler
                     .push(&self.mono)
                     .map_err(|message| AudioError::Malformed {
                         file: self.path.clone(),
                         message,
-                    })?,
-                None => self.mono.clone(),
-            };
-            if !out.is_empty() {
-                self.largest_chunk = self.largest_chunk.max(out.len());
-                return Ok(Some(out));
+                    })?;
+            if !resampled.is_empty() {
+                self.largest_chunk = self.largest_chunk.max(resampled.len());
+                append(out, resampled);
+                return Ok(true);
             }
         }
     }
@@ -433,9 +461,7 @@ impl AudioReader {
 pub fn decode_file(path: &Path, options: &DecodeOptions) -> Result<Audio, AudioError> {
     let mut reader = open(path, options)?;
     let mut samples = Vec::with_capacity(reader.expected_len());
-    while let Some(chunk) = reader.next_chunk()? {
-        samples.extend_from_slice(&chunk);
-    }
+    while reader.append_chunk(&mut samples)? {}
     let sample_rate = reader.sample_rate();
     let source_sample_rate = reader.source_sample_rate();
     let source_channels = reader.source_channels();
