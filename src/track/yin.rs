@@ -200,8 +200,6 @@ impl FrameAnalyser {
         // The FFTs use their inputs as scratch, so both buffers are set in
         // full every frame: samples where the frame (window) has them,
         // zeros elsewhere.
-        self.frame_buffer[..length].copy_from_slice(&frame[..length]);
-        self.frame_buffer[length..].fill(0.0);
         let window_end = (start + width).min(length);
         if start < window_end {
             self.window_buffer[..start].fill(0.0);
@@ -211,16 +209,24 @@ impl FrameAnalyser {
             self.window_buffer.fill(0.0);
         }
 
+        // The frame goes into its FFT buffer in the same loop as the
+        // cumulative energy, whose chain of additions leaves the copy's
+        // loads and stores free. Past the frame's samples come zeros, which
+        // add exactly nothing to the (non-negative) running total.
         self.cumulative_energy[0] = 0.0;
         let mut total = 0.0;
-        for (slot, &sample) in self.cumulative_energy[1..]
+        for ((slot, buffered), &sample) in self.cumulative_energy[1..=length]
             .iter_mut()
-            .zip(&self.frame_buffer[..layout.frame_samples])
+            .zip(&mut self.frame_buffer[..length])
+            .zip(&frame[..length])
         {
+            *buffered = sample;
             let sample = f64::from(sample);
             total += sample * sample;
             *slot = total;
         }
+        self.frame_buffer[length..].fill(0.0);
+        self.cumulative_energy[length + 1..=layout.frame_samples].fill(total);
         let cumulative = &self.cumulative_energy;
         let window_energy = cumulative[start + width] - cumulative[start];
         if window_energy <= f64::MIN_POSITIVE {
