@@ -24,6 +24,7 @@ pub fn with_commands<R: Runtime>(builder: tauri::Builder<R>, state: AppState) ->
     builder
         .manage(state)
         .invoke_handler(tauri::generate_handler![
+            commands::library::library_status,
             commands::library::library_info,
             commands::library::library_open,
             commands::library::library_create_empty,
@@ -58,7 +59,8 @@ pub fn with_commands<R: Runtime>(builder: tauri::Builder<R>, state: AppState) ->
 }
 
 /// Starts the desktop app: opens the library named by `AMBIT_LIBRARY`, or
-/// else the demo library in the app's data folder (seeded on first start).
+/// else the demo library in the app's data folder (prepared in the
+/// background on first start).
 pub fn run() {
     let result = with_commands(tauri::Builder::default(), AppState::default())
         .plugin(tauri_plugin_dialog::init())
@@ -66,11 +68,11 @@ pub fn run() {
             let demo_folder = app.path().app_data_dir()?.join("demo-library");
             let state = app.state::<AppState>();
             state.set_demo_folder(demo_folder);
-            // A failure here is shown by the UI (library_info says no library is open).
-            if let Err(error) = state.open_startup_library() {
-                eprintln!("ambit: {error}");
-                state.set_startup_error(error);
-            }
+            // Opens an existing library at once; a first start prepares the
+            // demo library in the background while the window shows its
+            // progress (`library_status`, `library-status` events). A
+            // failure is shown by the UI from the status.
+            state.open_startup_library(app.handle());
             Ok(())
         })
         .run(tauri::generate_context!());

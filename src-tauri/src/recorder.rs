@@ -94,11 +94,28 @@ pub fn pitch_frame(frame: &Frame) -> PitchFrame {
     }
 }
 
+/// The longest take kept: an audition task lasts seconds to a minute or two,
+/// so a take still running after ten minutes was forgotten; capture stops
+/// there and the take keeps its first ten minutes (bounded disk use).
+pub const MAX_TAKE_SECONDS: u32 = 600;
+
+/// Blocks of samples that may wait between the audio callback and the
+/// writer (seconds of audio at typical block sizes), so memory stays bounded.
+/// The writer and the tracker run hundreds of times faster than real time,
+/// so with a microphone the queue stays near empty. Should it ever fill, the
+/// callback waits for room: the device's own buffer takes the burst (and
+/// the audio backend reports an overrun if that overflows too) rather than
+/// the take being silently spliced.
+const QUEUED_BLOCKS: usize = 256;
+
 /// A finished take.
 #[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+#[serde(rename_all = "camelCase")]
 pub struct Recorded {
     pub path: PathBuf,
     pub seconds: f64,
+    /// Whether capture stopped at [`MAX_TAKE_SECONDS`].
+    pub reached_limit: bool,
 }
 
 /// A take in progress.
@@ -171,7 +188,8 @@ fn build_stream<T>(
     device: &cpal::Device,
     config: &cpal::StreamConfig,
     channels: usize,
-    sender: mpsc::Sender<Vec<f32>>,
+    sender: mpsc::SyncSender<Vec<f32>>,
+    stopping: Arc<AtomicBool>,
 ) -> Result<cpal::Stream, cpal::Error>
 where
     T: SizedSample + Send + 'static,
@@ -180,6 +198,9 @@ where
     device.build_input_stream(
         *config,
         move |data: &[T], _: &cpal::InputCallbackInfo| {
+            if stopping.load(Ordering::Relaxed) {
+                return;
+            }
             // Mono: the mean of the channels of each frame.
             let mono: Vec<f32> = data
                 .chunks(channels.max(1))
@@ -191,6 +212,7 @@ where
                         / frame.len() as f32
                 })
                 .collect();
+            // Fails only once the writer has stopped.
             let _ = sender.send(mono);
         },
         |error| eprintln!("ambit: recording: {error}"),
@@ -220,13 +242,13 @@ fn capture<R: Runtime>(
     let channels = usize::from(supported.channels());
     let format = supported.sample_format();
     let config: cpal::StreamConfig = supported.into();
-    let (sender, blocks) = mpsc::channel::<Vec<f32>>();
+    let (sender, blocks) = mpsc::sync_channel::<Vec<f32>>(QUEUED_BLOCKS);
     let stream = match format {
-        SampleFormat::F32 => build_stream::<f32>(&device, &config, channels, sender),
-        SampleFormat::I16 => build_stream::<i16>(&device, &config, channels, sender),
-        SampleFormat::I32 => build_stream::<i32>(&device, &config, channels, sender),
-        SampleFormat::U16 => build_stream::<u16>(&device, &config, channels, sender),
-        SampleFormat::I8 => build_stream::<i8>(&device, &config, channels, sender),
+        SampleFormat::F32 => build_stream::<f32>(&device, &config, channels, sender, stop.clone()),
+        SampleFormat::I16 => build_stream::<i16>(&device, &config, channels, sender, stop.clone()),
+        SampleFormat::I32 => build_stream::<i32>(&device, &config, channels, sender, stop.clone()),
+        SampleFormat::U16 => build_stream::<u16>(&device, &config, channels, sender, stop.clone()),
+        SampleFormat::I8 => build_stream::<i8>(&device, &config, channels, sender, stop.clone()),
         other => {
             return fail(format!(
                 "the microphone's sample format {other} is not supported"
@@ -255,26 +277,35 @@ fn capture<R: Runtime>(
         return fail(format!("cannot start the microphone: {error}"));
     }
     let _ = ready.send(Ok(()));
-    let mut written: u64 = 0;
+    let limit = u64::from(MAX_TAKE_SECONDS) * u64::from(sample_rate);
+    let written = std::cell::Cell::new(0u64);
     let mut write_error = None;
-    let mut handle = |block: Vec<f32>, writer: &mut hound::WavWriter<_>| {
+    let mut handle = |mut block: Vec<f32>, writer: &mut hound::WavWriter<_>| {
+        let room = limit.saturating_sub(written.get());
+        block.truncate(usize::try_from(room).unwrap_or(usize::MAX));
         for sample in &block {
             let value = (sample.clamp(-1.0, 1.0) * f32::from(i16::MAX)) as i16;
             if let Err(error) = writer.write_sample(value) {
                 write_error.get_or_insert_with(|| format!("{}: {error}", path.display()));
             }
         }
-        written += block.len() as u64;
+        written.set(written.get() + block.len() as u64);
         for frame in live.push(&block) {
             let _ = app.emit(PITCH_FRAME, frame);
         }
     };
-    while !stop.load(Ordering::Relaxed) {
+    while !stop.load(Ordering::Relaxed) && written.get() < limit {
         match blocks.recv_timeout(Duration::from_millis(50)) {
             Ok(block) => handle(block, &mut writer),
             Err(mpsc::RecvTimeoutError::Timeout) => {}
             Err(mpsc::RecvTimeoutError::Disconnected) => break,
         }
+    }
+    // The callback sends nothing once `stop` is set; empty the queue so a
+    // callback waiting for room returns, then close the device.
+    stop.store(true, Ordering::Relaxed);
+    while let Ok(block) = blocks.try_recv() {
+        handle(block, &mut writer);
     }
     drop(stream);
     while let Ok(block) = blocks.try_recv() {
@@ -286,8 +317,10 @@ fn capture<R: Runtime>(
     writer
         .finalize()
         .map_err(|error| format!("{}: {error}", path.display()))?;
+    let written = written.get();
     Ok(Recorded {
         seconds: written as f64 / f64::from(sample_rate),
+        reached_limit: written >= limit,
         path,
     })
 }

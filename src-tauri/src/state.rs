@@ -8,6 +8,8 @@ use std::sync::Mutex;
 use ambit::library::{LIBRARY_ENV, Library, LibraryError};
 use ambit::placement::{Placement, PlacementProblem};
 use ambit::voice::Profile;
+use serde::{Deserialize, Serialize};
+use tauri::{AppHandle, Emitter, Manager, Runtime};
 
 use crate::commands::audition::AuditionFile;
 use crate::jobs::Jobs;
@@ -28,12 +30,44 @@ pub struct AppState {
     library: Mutex<Option<OpenLibrary>>,
     demo_folder: Mutex<Option<PathBuf>>,
     startup_error: Mutex<Option<String>>,
+    status: Mutex<LibraryStatus>,
     pub jobs: Jobs,
     pub recording: Mutex<Option<Recording>>,
     pub placement: Mutex<Option<CurrentPlacement>>,
     /// The last profile measured, with the files it came from, so that
     /// saving an audition does not measure it twice.
     pub last_profile: Mutex<Option<(String, Vec<AuditionFile>, Profile)>>,
+}
+
+/// Event name of library status changes (preparing the demo library).
+pub const LIBRARY_STATUS: &str = "library-status";
+
+/// Where the app's library stands (`library_status`, `library-status` events).
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize, Deserialize, Default)]
+#[serde(rename_all = "camelCase")]
+pub enum LibraryState {
+    /// Nothing is open yet (before start-up has decided).
+    #[default]
+    None,
+    /// The demo library is being made in the background.
+    Preparing,
+    /// A library is open.
+    Ready,
+    /// Opening or preparing failed; `error` says why.
+    Failed,
+}
+
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize, Default)]
+#[serde(rename_all = "camelCase")]
+pub struct LibraryStatus {
+    pub state: LibraryState,
+    /// Steps done and in all while preparing.
+    pub done: usize,
+    pub total: usize,
+    /// The step just finished, in words.
+    pub label: String,
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub error: Option<String>,
 }
 
 struct OpenLibrary {
@@ -53,6 +87,7 @@ impl AppState {
     pub fn opened(library: Library, is_demo: bool) -> AppState {
         let state = AppState::default();
         *lock(&state.library) = Some(OpenLibrary { library, is_demo });
+        lock(&state.status).state = LibraryState::Ready;
         state
     }
 
@@ -66,31 +101,118 @@ impl AppState {
             .ok_or_else(|| "the app has no data folder for the demo library".to_string())
     }
 
-    pub fn set_startup_error(&self, error: String) {
-        *lock(&self.startup_error) = Some(error);
+    /// Where the library stands now.
+    pub fn status(&self) -> LibraryStatus {
+        lock(&self.status).clone()
     }
 
-    /// `AMBIT_LIBRARY` when set (created and seeded with the demo choir when
-    /// the folder holds no library yet), else the demo library.
-    pub fn open_startup_library(&self) -> Result<(), String> {
+    fn set_status<R: Runtime>(&self, app: &AppHandle<R>, status: LibraryStatus) {
+        *lock(&self.status) = status.clone();
+        let _ = app.emit(LIBRARY_STATUS, status);
+    }
+
+    /// Opens the start-up library: `AMBIT_LIBRARY` when set, else the demo
+    /// library in the app's data folder. See [`AppState::open_or_prepare`].
+    pub fn open_startup_library<R: Runtime>(&self, app: &AppHandle<R>) {
         match std::env::var_os(LIBRARY_ENV).filter(|value| !value.is_empty()) {
-            Some(folder) => {
-                let folder = PathBuf::from(folder);
-                let (library, seeded) = open_or_seed(&folder)?;
-                self.replace_library(library, seeded);
-                Ok(())
-            }
-            None => {
-                let folder = self.demo_folder()?;
-                let (library, _) = open_or_seed(&folder)?;
-                self.replace_library(library, true);
-                Ok(())
-            }
+            Some(folder) => self.open_or_prepare(app, PathBuf::from(folder)),
+            None => match self.demo_folder() {
+                Ok(folder) => self.open_or_prepare(app, folder),
+                Err(error) => self.fail(app, error),
+            },
         }
     }
 
+    /// Opens the library in `folder` at once when it exists. Otherwise makes
+    /// the demo library there on a thread of its own, reporting each step as
+    /// a `library-status` event, so the window stays responsive; the library
+    /// opens when it is complete.
+    pub fn open_or_prepare<R: Runtime>(&self, app: &AppHandle<R>, folder: PathBuf) {
+        if lock(&self.status).state == LibraryState::Preparing {
+            return;
+        }
+        if folder.join(ambit::library::DATABASE_FILE).is_file() {
+            match Library::open(&folder) {
+                Ok(library) => {
+                    let is_demo = self.demo_folder().is_ok_and(|demo| demo == folder);
+                    self.replace_library(library, is_demo);
+                    self.set_status(app, ready());
+                }
+                Err(error) => self.fail(app, error.to_string()),
+            }
+            return;
+        }
+        self.set_status(
+            app,
+            LibraryStatus {
+                state: LibraryState::Preparing,
+                total: ambit::demo::seed::SEED_STEPS,
+                label: "Starting".to_string(),
+                ..LibraryStatus::default()
+            },
+        );
+        let handle = app.clone();
+        let spawned = std::thread::Builder::new()
+            .name("ambit-demo-library".to_string())
+            .spawn(move || {
+                let state = handle.state::<AppState>();
+                let outcome = prepare_demo(&folder, &mut |done, total, label| {
+                    state.set_status(
+                        &handle,
+                        LibraryStatus {
+                            state: LibraryState::Preparing,
+                            done,
+                            total,
+                            label: label.to_string(),
+                            error: None,
+                        },
+                    );
+                });
+                match outcome {
+                    Ok(library) => {
+                        state.replace_library(library, true);
+                        state.set_status(&handle, ready());
+                    }
+                    Err(error) => state.fail(&handle, error),
+                }
+            });
+        if let Err(error) = spawned {
+            self.fail(
+                app,
+                format!("cannot start preparing the demo library: {error}"),
+            );
+        }
+    }
+
+    /// `Err` while the demo library is being prepared: it would replace
+    /// whatever was opened meanwhile.
+    pub fn refuse_while_preparing(&self) -> Result<(), String> {
+        if self.status().state == LibraryState::Preparing {
+            Err("the demo library is still being prepared; try again when it is ready".to_string())
+        } else {
+            Ok(())
+        }
+    }
+
+    fn fail<R: Runtime>(&self, app: &AppHandle<R>, error: String) {
+        eprintln!("ambit: {error}");
+        *lock(&self.startup_error) = Some(error.clone());
+        self.set_status(
+            app,
+            LibraryStatus {
+                state: LibraryState::Failed,
+                error: Some(error),
+                ..LibraryStatus::default()
+            },
+        );
+    }
+
+    /// Makes `library` the open one (what-if placement and the last profile
+    /// belong to the old one and are dropped).
     pub fn replace_library(&self, library: Library, is_demo: bool) {
         *lock(&self.library) = Some(OpenLibrary { library, is_demo });
+        *lock(&self.startup_error) = None;
+        lock(&self.status).state = LibraryState::Ready;
         *lock(&self.placement) = None;
         *lock(&self.last_profile) = None;
     }
@@ -132,6 +254,13 @@ impl AppState {
     }
 
     fn no_library(&self) -> String {
+        let status = self.status();
+        if status.state == LibraryState::Preparing {
+            return format!(
+                "the demo library is still being prepared ({} of {} steps done)",
+                status.done, status.total
+            );
+        }
         match lock(&self.startup_error).as_ref() {
             Some(error) => format!("no library is open ({error})"),
             None => "no library is open; open or create one".to_string(),
@@ -139,16 +268,52 @@ impl AppState {
     }
 }
 
-/// Opens the library in `folder`, or creates it and seeds it with the demo
-/// choir and the sample scores when there is none. Returns whether it was seeded.
-pub fn open_or_seed(folder: &Path) -> Result<(Library, bool), String> {
-    if folder.join(ambit::library::DATABASE_FILE).is_file() {
-        let library = Library::open(folder).map_err(|error| error.to_string())?;
-        return Ok((library, false));
+fn ready() -> LibraryStatus {
+    LibraryStatus {
+        state: LibraryState::Ready,
+        ..LibraryStatus::default()
     }
-    let mut library = Library::create(folder).map_err(|error| error.to_string())?;
-    crate::seed::seed_demo(&mut library, &mut |done, total, label| {
-        eprintln!("ambit: preparing the demo library {done}/{total}: {label}");
-    })?;
-    Ok((library, true))
+}
+
+/// Makes the demo library in `folder`: seeded in a sibling folder
+/// `<folder>.partial` and renamed into place only when complete, so an
+/// interrupted start leaves no half-made library behind (the next start
+/// removes the partial folder and begins again). `folder` must be missing or
+/// empty.
+pub fn prepare_demo(
+    folder: &Path,
+    progress: &mut dyn FnMut(usize, usize, &str),
+) -> Result<Library, String> {
+    let Some(name) = folder.file_name() else {
+        return Err(format!("{}: not a folder name", folder.display()));
+    };
+    if let Ok(mut entries) = std::fs::read_dir(folder)
+        && entries.next().is_some()
+    {
+        return Err(format!(
+            "{}: the folder holds files but no library; choose an empty folder",
+            folder.display()
+        ));
+    }
+    let mut partial_name = name.to_os_string();
+    partial_name.push(".partial");
+    let partial = folder.with_file_name(partial_name);
+    let io = |path: &Path, error: std::io::Error| format!("{}: {error}", path.display());
+    if partial.exists() {
+        std::fs::remove_dir_all(&partial).map_err(|error| io(&partial, error))?;
+    }
+    let mut library = Library::create(&partial).map_err(|error| error.to_string())?;
+    if let Err(error) = crate::seed::seed_demo(&mut library, progress) {
+        drop(library);
+        let _ = std::fs::remove_dir_all(&partial);
+        return Err(error);
+    }
+    // Close the database (its WAL is checkpointed) before the folder moves.
+    drop(library);
+    if folder.exists() {
+        // Empty (checked above): rename cannot replace it on every platform.
+        std::fs::remove_dir(folder).map_err(|error| io(folder, error))?;
+    }
+    std::fs::rename(&partial, folder).map_err(|error| io(folder, error))?;
+    Library::open(folder).map_err(|error| error.to_string())
 }

@@ -15,7 +15,7 @@ use serde_json::{Value, json};
 use tauri::Listener;
 use tauri::test::{INVOKE_KEY, MockRuntime, mock_builder, mock_context, noop_assets};
 use tauri::webview::InvokeRequest;
-use tauri::{App, WebviewWindow};
+use tauri::{App, Manager, WebviewWindow};
 
 struct TestApp {
     app: App<MockRuntime>,
@@ -380,4 +380,496 @@ fn the_cautions_and_the_tasks_are_the_engines() {
         .collect();
     // docs/AUDITION.md: the five tasks in order.
     assert_eq!(names, ["speech", "glide", "scale", "sustain", "song"]);
+}
+
+/// The app with nothing open yet, as at start-up, whose demo library lives
+/// in `<scratch>/demo-library`.
+fn starting_app() -> (TestApp, PathBuf) {
+    let folder = tempfile::tempdir().expect("a scratch folder");
+    let demo = folder.path().join("demo-library");
+    let state = AppState::default();
+    state.set_demo_folder(demo.clone());
+    let app = ambit_app::with_commands(mock_builder(), state)
+        .build(mock_context(noop_assets()))
+        .expect("the app builds");
+    let window = tauri::WebviewWindowBuilder::new(&app, "main", Default::default())
+        .build()
+        .expect("a window");
+    (
+        TestApp {
+            app,
+            window,
+            folder,
+        },
+        demo,
+    )
+}
+
+impl TestApp {
+    /// Collects `library-status` events until one is not `preparing`.
+    fn statuses_until_settled(&self, receiver: &mpsc::Receiver<String>) -> Vec<Value> {
+        let mut seen = Vec::new();
+        loop {
+            let payload = receiver
+                .recv_timeout(Duration::from_secs(900))
+                .expect("a library-status event within fifteen minutes");
+            let status: Value = serde_json::from_str(&payload).expect("JSON");
+            let settled = status["state"] != "preparing";
+            seen.push(status);
+            if settled {
+                return seen;
+            }
+        }
+    }
+
+    fn listen_status(&self) -> mpsc::Receiver<String> {
+        let (sender, receiver) = mpsc::channel::<String>();
+        self.app.listen_any("library-status", move |event| {
+            let _ = sender.send(event.payload().to_string());
+        });
+        receiver
+    }
+}
+
+#[test]
+fn a_first_start_prepares_the_demo_library_in_the_background_and_leaves_no_partial_folder() {
+    let (app, demo) = starting_app();
+    // What an interrupted earlier start leaves behind.
+    let partial = demo.with_file_name("demo-library.partial");
+    std::fs::create_dir_all(partial.join("recordings")).expect("a stale partial folder");
+    std::fs::write(partial.join("library.sqlite"), b"half written").expect("written");
+
+    let statuses = app.listen_status();
+    let state = app.app.state::<AppState>();
+    state.open_or_prepare(app.app.handle(), demo.clone());
+    // The call returns at once; the window can ask and is told to wait.
+    let now = app.ok("library_status", json!({}));
+    assert_eq!(now["state"], "preparing", "{now}");
+    let error = app
+        .call("singers_list", json!({}))
+        .expect_err("nothing is open while the demo library is prepared");
+    assert!(error.contains("being prepared"), "{error}");
+    let error = app
+        .call(
+            "library_create_empty",
+            json!({ "folder": app.folder.path().join("other") }),
+        )
+        .expect_err("switching libraries waits for the preparation");
+    assert!(error.contains("being prepared"), "{error}");
+
+    let seen = app.statuses_until_settled(&statuses);
+    let last = seen.last().expect("a final status");
+    assert_eq!(last["state"], "ready", "{last}");
+    let steps: Vec<u64> = seen
+        .iter()
+        .filter(|status| status["state"] == "preparing")
+        .filter_map(|status| status["done"].as_u64())
+        .collect();
+    assert!(
+        steps.windows(2).all(|pair| pair[0] <= pair[1]),
+        "progress never goes back: {steps:?}"
+    );
+    let total = ambit::demo::seed::SEED_STEPS as u64;
+    assert_eq!(steps.last().copied(), Some(total), "{steps:?}");
+    assert!(
+        seen.iter()
+            .all(|status| status["state"] != "preparing" || status["total"] == total)
+    );
+
+    // On disk: the library in place, the partial folder gone.
+    assert!(demo.join("library.sqlite").is_file());
+    assert!(!partial.exists(), "{} is left over", partial.display());
+    let info = app.ok("library_info", json!({}));
+    assert_eq!(info["isDemo"], true);
+    assert_eq!(
+        info["singers"].as_u64(),
+        Some(ambit::demo::DEMO_CHOIR.len() as u64)
+    );
+    assert_eq!(
+        info["pieces"].as_u64(),
+        Some(ambit::demo::seed::SAMPLE_SCORES.len() as u64)
+    );
+    // Every stored recording is a WAV file hound can read.
+    let recordings: Vec<PathBuf> = std::fs::read_dir(demo.join("recordings"))
+        .expect("the recordings folder")
+        .filter_map(|entry| entry.ok().map(|entry| entry.path()))
+        .collect();
+    assert_eq!(
+        recordings.len() as u64,
+        info["recordings"].as_u64().expect("a count")
+    );
+    for file in &recordings {
+        hound::WavReader::open(file).unwrap_or_else(|error| panic!("{}: {error}", file.display()));
+    }
+
+    // Going back to the demo library later opens it at once.
+    app.ok(
+        "library_create_empty",
+        json!({ "folder": app.folder.path().join("own") }),
+    );
+    assert_eq!(app.ok("library_info", json!({}))["isDemo"], false);
+    let status = app.ok("library_open_demo", json!({}));
+    assert_eq!(status["state"], "ready", "{status}");
+    let info = app.ok("library_info", json!({}));
+    assert_eq!(info["isDemo"], true);
+    assert_eq!(info["folder"], json!(demo));
+}
+
+#[test]
+fn a_folder_that_holds_other_files_is_not_made_into_a_library() {
+    let (app, _) = starting_app();
+    let folder = app.folder.path().join("letters");
+    std::fs::create_dir_all(&folder).expect("a folder");
+    std::fs::write(folder.join("minutes.txt"), b"rehearsal minutes").expect("written");
+    let statuses = app.listen_status();
+    app.app
+        .state::<AppState>()
+        .open_or_prepare(app.app.handle(), folder.clone());
+    let seen = app.statuses_until_settled(&statuses);
+    let last = seen.last().expect("a status");
+    assert_eq!(last["state"], "failed", "{last}");
+    let error = last["error"].as_str().expect("an error");
+    assert!(error.contains("letters"), "{error}");
+    // Nothing was written there, and nothing beside it.
+    let names: Vec<String> = std::fs::read_dir(&folder)
+        .expect("the folder")
+        .filter_map(|entry| entry.ok())
+        .map(|entry| entry.file_name().to_string_lossy().into_owned())
+        .collect();
+    assert_eq!(names, ["minutes.txt"]);
+    assert!(!folder.with_file_name("letters.partial").exists());
+    let error = app
+        .call("library_info", json!({}))
+        .expect_err("no library is open");
+    assert!(error.contains("letters"), "{error}");
+}
+
+#[test]
+fn libraries_are_created_opened_and_refused_by_folder() {
+    let app = app(true);
+    let first = app.library();
+    let other = app.folder.path().join("second");
+    let info = app.ok("library_create_empty", json!({ "folder": other }));
+    assert_eq!(info["folder"], json!(other));
+    assert_eq!(info["singers"], 0);
+    assert!(other.join("library.sqlite").is_file());
+    let status = app.ok("library_status", json!({}));
+    assert_eq!(status["state"], "ready");
+
+    let info = app.ok("library_open", json!({ "folder": first }));
+    assert_eq!(info["folder"], json!(first));
+    assert_eq!(
+        info["singers"].as_u64(),
+        Some(ambit::demo::seed::demo_roster().singers.len() as u64)
+    );
+
+    let nowhere = app.folder.path().join("nowhere");
+    let error = app
+        .call("library_open", json!({ "folder": nowhere }))
+        .expect_err("no library there");
+    assert!(error.contains("nowhere"), "{error}");
+    assert!(!nowhere.exists(), "opening does not create");
+    // The open library is unchanged by the refusal.
+    assert_eq!(app.ok("library_info", json!({}))["folder"], json!(first));
+}
+
+#[test]
+fn the_roster_exports_as_csv_and_imports_into_another_library() {
+    let source = app(true);
+    let scratch = tempfile::tempdir().expect("scratch");
+    let csv_path = scratch.path().join("roster.csv");
+    source.ok("roster_export", json!({ "path": csv_path }));
+    let listed = source.ok("singers_list", json!({ "includeArchived": true }));
+    let listed = listed.as_array().expect("singers");
+
+    // Read back with the csv crate (RFC 4180), not with Ambit's reader.
+    let mut reader = csv::Reader::from_path(&csv_path).expect("a CSV file");
+    let headers = reader.headers().expect("a header row").clone();
+    let rows: Vec<csv::StringRecord> = reader
+        .records()
+        .collect::<Result<_, _>>()
+        .expect("well-formed rows");
+    assert_eq!(rows.len(), listed.len());
+    let column = |name: &str| {
+        headers
+            .iter()
+            .position(|header| header.eq_ignore_ascii_case(name))
+            .unwrap_or_else(|| panic!("no {name} column in {headers:?}"))
+    };
+    let name_at = column("name");
+    for singer in listed {
+        let name = singer["name"].as_str().expect("a name");
+        assert!(
+            rows.iter().any(|row| row.get(name_at) == Some(name)),
+            "{name} is in the CSV"
+        );
+    }
+
+    let target = app(false);
+    let preview = target.ok("roster_import_preview", json!({ "path": csv_path }));
+    let nothing = target.ok("singers_list", json!({ "includeArchived": true }));
+    assert_eq!(
+        nothing.as_array().map(Vec::len),
+        Some(0),
+        "a preview stores nothing: {preview}"
+    );
+    let committed = target.ok("roster_import_commit", json!({ "path": csv_path }));
+    assert_eq!(preview, committed, "the preview shows what the import does");
+    let imported = target.ok("singers_list", json!({ "includeArchived": true }));
+    let imported = imported.as_array().expect("singers");
+    assert_eq!(imported.len(), listed.len());
+    for singer in listed {
+        let twin = imported
+            .iter()
+            .find(|row| row["name"] == singer["name"])
+            .expect("the same singer");
+        for field in [
+            "rangeLowMidi",
+            "rangeHighMidi",
+            "comfortLowMidi",
+            "comfortHighMidi",
+        ] {
+            assert_eq!(twin[field], singer[field], "{field} of {}", singer["name"]);
+        }
+    }
+
+    let missing = scratch.path().join("absent.csv");
+    let error = target
+        .call("roster_import_preview", json!({ "path": missing }))
+        .expect_err("no such file");
+    assert!(error.contains("absent.csv"), "{error}");
+}
+
+#[test]
+fn a_cancelled_job_ends_with_cancelled_and_an_unknown_job_is_not_an_error() {
+    let app = app(false);
+    let scratch = tempfile::tempdir().expect("scratch");
+    // Five long takes, so the job is still measuring when it is cancelled.
+    let files: Vec<Value> = ["speech", "glide", "scale", "sustain", "song"]
+        .iter()
+        .map(|task| {
+            let path = scratch.path().join(format!("{task}.wav"));
+            sine_wav(&path, 196.0, 40.0);
+            json!({ "task": task, "path": path })
+        })
+        .collect();
+    let (sender, receiver) = mpsc::channel::<String>();
+    app.app.listen_any("job-done", move |event| {
+        let _ = sender.send(event.payload().to_string());
+    });
+    let job = app.ok(
+        "audition_analyse",
+        json!({ "singer": "Pell Marrow", "files": files }),
+    );
+    app.ok("job_cancel", json!({ "job": job }));
+    let done = loop {
+        let payload = receiver
+            .recv_timeout(Duration::from_secs(600))
+            .expect("job-done");
+        let done: Value = serde_json::from_str(&payload).expect("JSON");
+        if done["job"] == job {
+            break done;
+        }
+    };
+    assert_eq!(done["error"], "cancelled", "{done}");
+    assert!(done["result"].is_null());
+    // Cancelling again, or a job that never was, is harmless.
+    app.ok("job_cancel", json!({ "job": job }));
+    app.ok("job_cancel", json!({ "job": 987_654 }));
+    let nothing = app.ok("singers_list", json!({ "includeArchived": true }));
+    assert_eq!(
+        nothing.as_array().map(Vec::len),
+        Some(0),
+        "nothing was saved"
+    );
+}
+
+#[test]
+fn a_part_mapped_by_hand_to_another_section_stays_there() {
+    let app = app(false);
+    let score = repository().join("sample-scores/haul-away.musicxml");
+    let expected = part_names(&std::fs::read_to_string(&score).expect("the score"));
+    assert_eq!(expected, ["Tenor I", "Tenor II", "Bass I", "Bass II"]);
+    let view = app.ok("piece_import", json!({ "path": score, "layout": "TTBB" }));
+    let title = view["title"].as_str().expect("a title").to_string();
+    assert_eq!(view["layout"], "TTBB");
+    // Tenor I is sung by the first tenors, Tenor II by the second, and so
+    // on (common practice in TTBB writing).
+    for (part, section) in expected.iter().zip(["T1", "T2", "B1", "B2"]) {
+        assert_eq!(view["mapping"][part], json!([section]), "{part}: {view}");
+    }
+    // The director swaps the tenor lines.
+    let changed = app.ok(
+        "piece_set_mapping",
+        json!({ "title": title, "overrides": { "Tenor I": "T2", "Tenor II": "T1" }, "layout": "TTBB" }),
+    );
+    assert_eq!(changed["mapping"]["Tenor I"], json!(["T2"]), "{changed}");
+    assert_eq!(changed["mapping"]["Tenor II"], json!(["T1"]), "{changed}");
+    assert_eq!(changed["mapping"]["Bass I"], json!(["B1"]), "{changed}");
+    assert_eq!(changed["overrides"]["Tenor I"], "T2");
+    let stored = app.ok("piece_analysis", json!({ "title": title }));
+    assert_eq!(stored["mapping"], changed["mapping"], "kept in the library");
+
+    let error = app
+        .call(
+            "piece_set_mapping",
+            json!({ "title": "No Such Piece", "overrides": {} }),
+        )
+        .expect_err("no such piece");
+    assert!(error.contains("No Such Piece"), "{error}");
+}
+
+#[test]
+fn time_outside_comfort_is_none_for_a_zone_around_everything_and_all_for_one_above() {
+    let app = app(false);
+    // Comfort zones in scientific pitch notation (ISO 16, A4 = 440 Hz): C1 to
+    // C8 spans the whole piano, so every sung note lies inside; C8 to B8 is
+    // above every note a choir part holds (common practice: choral parts lie
+    // between about E2 and C6).
+    for (name, low, high) in [("Wide Zone", "C1", "C8"), ("High Zone", "C8", "B8")] {
+        app.ok(
+            "singer_add_typed",
+            json!({ "row": { "name": name, "rangeLow": low, "rangeHigh": high,
+                             "comfortLow": low, "comfortHigh": high } }),
+        );
+    }
+    let score = repository().join("sample-scores/lanterns-on-the-quay.musicxml");
+    let expected = part_names(&std::fs::read_to_string(&score).expect("the score"));
+    let view = app.ok("piece_import", json!({ "path": score }));
+    let title = view["title"].as_str().expect("a title");
+
+    let by_part = app.ok(
+        "fit_matrix",
+        json!({ "pieces": [title], "layout": "SATB", "by": "part" }),
+    );
+    assert_eq!(by_part["columns"], json!(expected));
+    let rows: Vec<&str> = by_part["rows"]
+        .as_array()
+        .expect("rows")
+        .iter()
+        .filter_map(Value::as_str)
+        .collect();
+    for (row, name) in rows.iter().enumerate() {
+        let share = if *name == "Wide Zone" { 0.0 } else { 1.0 };
+        for column in 0..expected.len() {
+            let cell = &by_part["cells"][row][column];
+            let outside = cell["outside_share"]
+                .as_f64()
+                .or_else(|| cell["outsideShare"].as_f64())
+                .unwrap_or_else(|| panic!("{name}, column {column}: {cell}"));
+            assert!((outside - share).abs() < 1e-9, "{name}: {outside}");
+        }
+    }
+    assert!(!by_part["cautions"].as_array().is_none_or(Vec::is_empty));
+
+    let by_section = app.ok(
+        "fit_matrix",
+        json!({ "pieces": [title], "layout": "SATB", "by": "section" }),
+    );
+    assert_eq!(by_section["columns"], json!(["S", "A", "T", "B"]));
+    let error = app
+        .call(
+            "fit_matrix",
+            json!({ "pieces": [title], "layout": "SATB", "by": "voice" }),
+        )
+        .expect_err("by part or by section only");
+    assert!(error.contains("voice"), "{error}");
+}
+
+#[test]
+fn key_advice_covers_each_shift_with_its_interval_and_the_cautions() {
+    let app = app(false);
+    // One singer per SATB section with a typical comfort zone for the voice
+    // (common practice, from memory: soprano E4–E5, alto A3–C5, tenor D3–F4,
+    // bass G2–C4), ranges a few semitones wider.
+    for (name, section, range, comfort) in [
+        ("Ada Strand", "S", ("C4", "A5"), ("E4", "E5")),
+        ("Bea Mallory", "A", ("F3", "E5"), ("A3", "C5")),
+        ("Cal Thorne", "T", ("B2", "A4"), ("D3", "F4")),
+        ("Dov Ashby", "B", ("E2", "E4"), ("G2", "C4")),
+    ] {
+        app.ok(
+            "singer_add_typed",
+            json!({ "row": { "name": name, "section": section,
+                             "rangeLow": range.0, "rangeHigh": range.1,
+                             "comfortLow": comfort.0, "comfortHigh": comfort.1 } }),
+        );
+    }
+    let score = repository().join("sample-scores/the-tide-clock.musicxml");
+    let view = app.ok("piece_import", json!({ "path": score }));
+    let title = view["title"].as_str().expect("a title");
+    let advice = app.ok("transpose_advice", json!({ "title": title }));
+    assert_eq!(advice["mode"], "choir");
+    assert!(!advice["cautions"].as_array().is_none_or(Vec::is_empty));
+    let keys = advice["keys"].as_array().expect("keys");
+    assert!(!keys.is_empty());
+    // Interval names by semitones (common practice): 1 minor second, 2 major
+    // second, 3 minor third, 4 major third, 5 perfect fourth.
+    let names = [
+        "as written",
+        "minor second",
+        "major second",
+        "minor third",
+        "major third",
+        "perfect fourth",
+    ];
+    let mut shifts = Vec::new();
+    for key in keys {
+        let shift = key["transpose_semitones"].as_i64().expect("a shift");
+        shifts.push(shift);
+        let interval = key["interval"]
+            .as_str()
+            .expect("an interval")
+            .to_lowercase();
+        if let Some(name) = names.get(shift.unsigned_abs() as usize) {
+            assert!(interval.contains(name), "{shift}: {interval}");
+        }
+        if shift > 0 {
+            assert!(interval.contains("up"), "{shift}: {interval}");
+        } else if shift < 0 {
+            assert!(interval.contains("down"), "{shift}: {interval}");
+        }
+    }
+    assert!(shifts.contains(&0), "the written key is among the choices");
+    // Each key's tonic is the written tonic moved by the shift, in pitch
+    // classes (equal temperament: C 0, D 2, E 4, F 5, G 7, A 9, B 11; a sharp
+    // adds one, a flat takes one away).
+    let tonic = |key: &str| -> Option<i64> {
+        let mut characters = key.chars();
+        let base: i64 = match characters.next()? {
+            'C' => 0,
+            'D' => 2,
+            'E' => 4,
+            'F' => 5,
+            'G' => 7,
+            'A' => 9,
+            'B' => 11,
+            _ => return None,
+        };
+        let accidental = match characters.next() {
+            Some('♯' | '#') => 1,
+            Some('♭' | 'b') => -1,
+            _ => 0,
+        };
+        Some((base + accidental).rem_euclid(12))
+    };
+    let written = advice["written_key"]
+        .as_str()
+        .and_then(tonic)
+        .expect("the sample score states its key");
+    let mut checked = 0;
+    for key in keys {
+        let shift = key["transpose_semitones"].as_i64().expect("a shift");
+        let name = key["key"].as_str().expect("a key name");
+        let moved = tonic(name).expect("a tonic");
+        assert_eq!(moved, (written + shift).rem_euclid(12), "{shift}: {name}");
+        checked += 1;
+    }
+    assert_eq!(checked, keys.len());
+    let best = advice["best_semitones"].as_i64().expect("a best shift");
+    assert!(shifts.contains(&best));
+    let error = app
+        .call("transpose_advice", json!({ "title": "No Such Piece" }))
+        .expect_err("no such piece");
+    assert!(error.contains("No Such Piece"), "{error}");
 }

@@ -25,6 +25,10 @@ pub const DEMO_PROGRAMME: &str = "Harbour Lights";
 /// The layout the demo choir sings in.
 pub const DEMO_LAYOUT: &str = "SSAATTBB";
 
+/// Progress steps [`seed_library`] reports: one per demo singer measured,
+/// one per sample score analysed.
+pub const SEED_STEPS: usize = DEMO_CHOIR.len() + SAMPLE_SCORES.len();
+
 /// The date the demo auditions are stored under.
 pub const DEMO_AUDITION_DATE: &str = "2026-09-05";
 
@@ -164,8 +168,7 @@ pub fn seed_library(
     staging: &Path,
     progress: &mut dyn FnMut(usize, usize, &str),
 ) -> Result<SeedReport, LibraryError> {
-    let total = DEMO_CHOIR.len() + SAMPLE_SCORES.len();
-    let result = seed_into(library, staging, total, progress);
+    let result = seed_into(library, staging, SEED_STEPS, progress);
     // The scratch copies are demo data, not personal data; a failure to
     // remove them does not undo the seeding.
     let _ = std::fs::remove_dir_all(staging);
@@ -178,43 +181,28 @@ fn seed_into(
     total: usize,
     progress: &mut dyn FnMut(usize, usize, &str),
 ) -> Result<SeedReport, LibraryError> {
-    // Synthesis and profiling are the slow part: run them in parallel, then
-    // store one audition per transaction in choir order.
-    let measured: Vec<Result<AuditionInput, LibraryError>> = DEMO_CHOIR
-        .par_iter()
-        .enumerate()
-        .map(|(index, singer)| {
-            let folder = staging.join("auditions").join(singer_slug(singer.name));
-            let recordings = write_audition_files(singer, audition_seed(index), &folder)?;
-            let tasks: Vec<(Task, &Path)> = recordings
-                .iter()
-                .map(|recording| (recording.task, recording.path.as_path()))
-                .collect();
-            let invalid = |message: String| LibraryError::Invalid {
-                file: folder.clone(),
-                message,
-            };
-            let loaded = load_recordings(&tasks)
-                .into_iter()
-                .collect::<Result<Vec<_>, _>>()
-                .map_err(|error| invalid(error.to_string()))?;
-            let measured = profile(&loaded, &ProfileConfig::default())
-                .map_err(|error| invalid(error.to_string()))?;
-            Ok(AuditionInput {
-                singer: singer.name.to_string(),
-                held_on: DEMO_AUDITION_DATE.to_string(),
-                recordings,
-                profile: measured,
-            })
-        })
-        .collect();
-    let mut done = 0;
+    // Synthesis and profiling are the slow part: run them in parallel
+    // (reporting each singer as it is measured), then store one audition per
+    // transaction in choir order.
+    let (measured_one, measured_names) = std::sync::mpsc::channel::<&'static str>();
+    let measured = std::thread::scope(|scope| {
+        let worker = scope.spawn(move || measure_choir(staging, measured_one));
+        let mut done = 0;
+        for name in measured_names {
+            done += 1;
+            progress(done, total, &format!("Measured the audition of {name}"));
+        }
+        worker.join()
+    })
+    .map_err(|_| LibraryError::Invalid {
+        file: staging.to_path_buf(),
+        message: "measuring the demo auditions failed unexpectedly".to_string(),
+    })?;
+    let mut done = DEMO_CHOIR.len();
     for audition in measured {
-        let audition = audition?;
-        library.add_audition(&audition)?;
-        done += 1;
-        progress(done, total, &audition.singer);
+        library.add_audition(&audition?)?;
     }
+    progress(done, total, "Stored the demo choir");
 
     let layout = Layout::parse(DEMO_LAYOUT).map_err(|error| LibraryError::Invalid {
         file: staging.to_path_buf(),
@@ -251,13 +239,50 @@ fn seed_into(
             Some(DEMO_PROGRAMME),
         )?;
         done += 1;
-        progress(done, total, &title);
+        progress(done, total, &format!("Analysed {title}"));
     }
     Ok(SeedReport {
         auditions: DEMO_CHOIR.len(),
         pieces: SAMPLE_SCORES.len(),
         programme: DEMO_PROGRAMME.to_string(),
     })
+}
+
+/// Synthesises and profiles every demo singer's audition in parallel;
+/// sends each singer's name on `measured_one` as it is done.
+fn measure_choir(
+    staging: &Path,
+    measured_one: std::sync::mpsc::Sender<&'static str>,
+) -> Vec<Result<AuditionInput, LibraryError>> {
+    DEMO_CHOIR
+        .par_iter()
+        .enumerate()
+        .map(|(index, singer)| {
+            let folder = staging.join("auditions").join(singer_slug(singer.name));
+            let recordings = write_audition_files(singer, audition_seed(index), &folder)?;
+            let tasks: Vec<(Task, &Path)> = recordings
+                .iter()
+                .map(|recording| (recording.task, recording.path.as_path()))
+                .collect();
+            let invalid = |message: String| LibraryError::Invalid {
+                file: folder.clone(),
+                message,
+            };
+            let loaded = load_recordings(&tasks)
+                .into_iter()
+                .collect::<Result<Vec<_>, _>>()
+                .map_err(|error| invalid(error.to_string()))?;
+            let measured = profile(&loaded, &ProfileConfig::default())
+                .map_err(|error| invalid(error.to_string()))?;
+            let _ = measured_one.send(singer.name);
+            Ok(AuditionInput {
+                singer: singer.name.to_string(),
+                held_on: DEMO_AUDITION_DATE.to_string(),
+                recordings,
+                profile: measured,
+            })
+        })
+        .collect()
 }
 
 #[cfg(test)]

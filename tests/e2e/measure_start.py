@@ -1,7 +1,8 @@
 """Cold start of the Ambit desktop app to an interactive roster, measured
 over WebDriver on an existing library (no first-start seeding).
 
-For each of N launches: the wall time from asking tauri-driver for a session
+For each of N launches: the memory of the app and its WebKit processes
+after 5 s idle on the roster, and the wall time from asking tauri-driver for a session
 (which starts the app process) until the roster table is shown and the
 first row is clickable, and, inside the page, performance.now() at that
 moment (milliseconds since the webview began loading the page). The first
@@ -22,7 +23,7 @@ from selenium.webdriver.common.by import By
 from selenium.webdriver.common.options import ArgOptions
 from selenium.webdriver.support.ui import WebDriverWait
 
-from test_app import PORT, env_path, wait_for_port
+from test_app import PORT, app_memory_kib, env_path, wait_for_port
 
 
 def main():
@@ -31,7 +32,7 @@ def main():
     driver_process = subprocess.Popen(
         [str(env_path("TAURI_DRIVER")), "--port", str(PORT)], stdout=sys.stderr, stderr=sys.stderr
     )
-    wall, in_page = [], []
+    wall, in_page, idle = [], [], []
     try:
         wait_for_port(PORT, 30)
         for _ in range(runs):
@@ -46,6 +47,10 @@ def main():
                 )
                 wall.append(time.monotonic() - started)
                 in_page.append(driver.execute_script("return performance.now()") / 1000)
+                # Idle on the roster after the cold start: memory of the app
+                # and its WebKit processes (see app_memory_kib).
+                time.sleep(5)
+                idle.append(app_memory_kib(app))
             finally:
                 driver.quit()
             time.sleep(1)
@@ -58,6 +63,12 @@ def main():
         "session_to_roster_seconds_max": max(wall),
         "page_load_to_roster_seconds_median": statistics.median(in_page),
         "page_load_to_roster_seconds_max": max(in_page),
+        "idle_memory_kib_median": {
+            key: statistics.median(sample[key] for sample in idle if sample)
+            for key in ("app_rss_kib", "tree_rss_kib", "app_pss_kib", "tree_pss_kib")
+        }
+        if any(idle)
+        else None,
     }
     print("e2e-start: " + json.dumps(result))
     target = os.environ.get("AMBIT_START_MEASUREMENTS")

@@ -11,7 +11,8 @@ Python's xml.etree, and the files on disk.
 Environment (set by scripts/e2e.sh):
   AMBIT_APP          the app binary
   TAURI_DRIVER       the tauri-driver binary
-  AMBIT_LIBRARY      the demo library (seeded by `ambit library init --demo`)
+  AMBIT_LIBRARY      the library folder; when it holds no library yet, the
+                     app's first start prepares the demo library there
   AMBIT_AUDITION_DIR five WAV files, <task>.wav, of one invented singer
   AMBIT_SCREENSHOTS  where to save a screenshot of each screen
   AMBIT_MEASUREMENTS (optional) a JSON file for the timings and memory figures
@@ -64,6 +65,66 @@ def wait_for_port(port, seconds):
     raise RuntimeError(f"tauri-driver did not listen on port {port}")
 
 
+def app_memory_kib(app):
+    """Memory of the app process and of the whole process tree under it (the
+    WebKit web and network processes), in KiB, as resident set size (VmRSS,
+    which counts a shared library once per process that maps it) and as
+    proportional set size (Pss from /proc/PID/smaps_rollup, which shares each
+    shared page among the processes mapping it, so a tree's sum counts it
+    once). None when the app process is not found."""
+    status = {}
+    parents = {}
+    for entry in Path("/proc").iterdir():
+        if not entry.name.isdigit():
+            continue
+        try:
+            fields = dict(
+                line.split(":", 1) for line in (entry / "status").read_text().splitlines() if ":" in line
+            )
+        except OSError:
+            continue
+        status[entry.name] = fields
+        parents[entry.name] = fields.get("PPid", "").strip()
+    app_pids = []
+    for pid in status:
+        try:
+            if Path(f"/proc/{pid}/exe").resolve() == Path(app).resolve():
+                app_pids.append(pid)
+        except OSError:
+            continue
+    if not app_pids:
+        return None
+    app_pid = app_pids[0]
+
+    def rss(pid):
+        return int(status[pid].get("VmRSS", "0 kB").split()[0])
+
+    def pss(pid):
+        try:
+            for line in Path(f"/proc/{pid}/smaps_rollup").read_text().splitlines():
+                if line.startswith("Pss:"):
+                    return int(line.split()[1])
+        except OSError:
+            pass
+        return 0
+
+    tree = {app_pid}
+    grew = True
+    while grew:
+        grew = False
+        for pid, parent in parents.items():
+            if parent in tree and pid not in tree:
+                tree.add(pid)
+                grew = True
+    return {
+        "app_rss_kib": rss(app_pid),
+        "tree_rss_kib": sum(rss(pid) for pid in tree),
+        "app_pss_kib": pss(app_pid),
+        "tree_pss_kib": sum(pss(pid) for pid in tree),
+        "processes": len(tree),
+    }
+
+
 class AppFlows(unittest.TestCase):
     """The flows run in order in one app session (methods are numbered)."""
 
@@ -77,6 +138,8 @@ class AppFlows(unittest.TestCase):
         cls.auditions = env_path("AMBIT_AUDITION_DIR")
         cls.screenshots = env_path("AMBIT_SCREENSHOTS")
         cls.screenshots.mkdir(parents=True, exist_ok=True)
+        # No library in the folder yet: the app's first start prepares one.
+        cls.first_start = not (cls.library / "library.sqlite").exists()
         cls.tauri_driver = subprocess.Popen(
             [str(env_path("TAURI_DRIVER")), "--port", str(PORT)],
             stdout=sys.stderr,
@@ -171,44 +234,7 @@ class AppFlows(unittest.TestCase):
         return self.driver.execute_async_script(script)
 
     def app_memory_kib(self):
-        """Resident memory (VmRSS, KiB) of the app process and of the whole
-        process tree under it (the WebKit web and network processes)."""
-        status = {}
-        parents = {}
-        for entry in Path("/proc").iterdir():
-            if not entry.name.isdigit():
-                continue
-            try:
-                fields = dict(
-                    line.split(":", 1) for line in (entry / "status").read_text().splitlines() if ":" in line
-                )
-            except OSError:
-                continue
-            status[entry.name] = fields
-            parents[entry.name] = fields.get("PPid", "").strip()
-        app_pids = []
-        for pid in status:
-            try:
-                if Path(f"/proc/{pid}/exe").resolve() == self.app.resolve():
-                    app_pids.append(pid)
-            except OSError:
-                continue
-        if not app_pids:
-            return None, None
-        app_pid = app_pids[0]
-
-        def rss(pid):
-            return int(status[pid].get("VmRSS", "0 kB").split()[0])
-
-        tree = {app_pid}
-        grew = True
-        while grew:
-            grew = False
-            for pid, parent in parents.items():
-                if parent in tree and pid not in tree:
-                    tree.add(pid)
-                    grew = True
-        return rss(app_pid), sum(rss(pid) for pid in tree)
+        return app_memory_kib(self.app)
 
     def query(self, sql, *parameters):
         # Read-only, while the app holds the library open (WAL mode allows it).
@@ -220,12 +246,28 @@ class AppFlows(unittest.TestCase):
 
     # --- flows ------------------------------------------------------------
     def test_1_starts_on_the_demo_library_and_shows_the_roster(self):
+        if self.first_start:
+            # The window answers at once and shows the demo library's
+            # preparation with its progress while it is made in the background.
+            self.visible("library-preparing", 60)
+            print(f"e2e: first-start progress shown {time.monotonic() - self.started:.2f} s after session start")
+            step = self.find("library-preparing-step").text
+            self.assertRegex(step, r"^\d+ of \d+ steps")
+            self.shot("first-start")
+            WebDriverWait(self.driver, 900).until(
+                lambda _: (self.library / "library.sqlite").exists() and not self.find_all(css("library-preparing"))
+            )
+            # Demo content from the start: the demo library notice is shown.
+            self.assertTrue(self.find_all('[aria-label="Demo library"]'))
         table = self.visible("roster-table", 60)
         print(f"e2e: roster visible {time.monotonic() - self.started:.2f} s after session start")
         # The roster shows every active singer the library holds.
         (expected,) = self.query("SELECT count(*) FROM singers WHERE archived = 0")[0]
         self.assertGreater(expected, 0, "the first start seeds the demo choir")
-        AppFlows.measured = {"roster_visible_seconds": time.monotonic() - self.started}
+        AppFlows.measured = {
+            "roster_visible_seconds": time.monotonic() - self.started,
+            "first_start": self.first_start,
+        }
         rows = table.find_elements(By.CSS_SELECTOR, '[data-testid^="roster-row-"]')
         self.assertEqual(len(rows), expected)
         names = [name for (name,) in self.query("SELECT name FROM singers WHERE archived = 0")]
@@ -252,6 +294,26 @@ class AppFlows(unittest.TestCase):
             lambda _: all(name in table.text for name in part_names)
         )
         self.shot("pieces")
+
+        # A hot spot opens its bars engraved from the MusicXML in the
+        # notation frame (allowed by the app's CSP: frames from itself only).
+        spots = self.find_all('[data-testid^="hot-spot-"]')
+        self.assertTrue(spots, "the sample score has hot spots")
+        spots[0].click()
+        figure = self.find("notation-excerpt", 60)
+        WebDriverWait(self.driver, 120).until(
+            lambda _: self.find("notation-excerpt").get_attribute("data-state") != "engraving"
+        )
+        self.assertEqual(self.find("notation-excerpt").get_attribute("data-state"), "engraved", figure.text)
+        self.driver.switch_to.frame(self.find("notation-frame"))
+        try:
+            engraved = self.driver.find_elements(By.CSS_SELECTOR, "svg")
+            self.assertTrue(engraved, "the frame holds the engraved notes")
+            self.assertGreater(engraved[0].size["height"], 20)
+        finally:
+            self.driver.switch_to.default_content()
+        self.driver.execute_script('arguments[0].scrollIntoView({block: "center"})', figure)
+        self.shot("pieces-notation")
 
     def test_3_imports_audition_files_for_a_new_singer_and_shows_a_result_card(self):
         self.go("audition")
@@ -345,7 +407,7 @@ class AppFlows(unittest.TestCase):
                 timings[screen].append(self.switch_ms(screen))
         self.go("singers")
         time.sleep(5)  # idle
-        app_kib, tree_kib = self.app_memory_kib()
+        memory = self.app_memory_kib()
         measured = getattr(AppFlows, "measured", {})
         measured.update(
             {
@@ -353,15 +415,14 @@ class AppFlows(unittest.TestCase):
                     screen: sorted(values)[len(values) // 2] for screen, values in timings.items()
                 },
                 "screen_switch_ms_max": max(max(values) for values in timings.values()),
-                "idle_rss_app_kib": app_kib,
-                "idle_rss_tree_kib": tree_kib,
+                "idle_memory_after_flows": memory,
             }
         )
         print("e2e-measure: " + json.dumps(measured))
         target = os.environ.get("AMBIT_MEASUREMENTS")
         if target:
             Path(target).write_text(json.dumps(measured, indent=2) + "\n")
-        self.assertIsNotNone(app_kib, "the app process was found")
+        self.assertIsNotNone(memory, "the app process was found")
 
 
 if __name__ == "__main__":

@@ -27,6 +27,15 @@ export interface LibraryInfo {
   isDemo: boolean;
 }
 
+/** Where the app's library stands (`library_status`, `library-status` events). */
+export interface LibraryStatus {
+  state: "none" | "preparing" | "ready" | "failed";
+  done: number;
+  total: number;
+  label: string;
+  error?: string;
+}
+
 // ---------------------------------------------------------------- singers
 
 export interface SingerRow {
@@ -368,6 +377,10 @@ async function call<T>(command: string, args?: Record<string, unknown>): Promise
   return b.invoke<T>(command, args);
 }
 
+export async function onLibraryStatus(handler: (status: LibraryStatus) => void): Promise<() => void> {
+  return (await backend()).listen<LibraryStatus>("library-status", handler);
+}
+
 export async function onPitchFrame(handler: (frame: PitchFrame) => void): Promise<() => void> {
   return (await backend()).listen<PitchFrame>("pitch-frame", handler);
 }
@@ -408,10 +421,11 @@ export async function runJob<T>(
 
 export const api = {
   // library
+  libraryStatus: () => call<LibraryStatus>("library_status"),
   libraryInfo: () => call<LibraryInfo>("library_info"),
   libraryOpen: (folder: string) => call<LibraryInfo>("library_open", { folder }),
   libraryCreateEmpty: (folder: string) => call<LibraryInfo>("library_create_empty", { folder }),
-  libraryOpenDemo: () => call<LibraryInfo>("library_open_demo"),
+  libraryOpenDemo: () => call<LibraryStatus>("library_open_demo"),
   // singers
   singersList: (includeArchived: boolean) => call<SingerRow[]>("singers_list", { includeArchived }),
   singerAddTyped: (row: TypedSinger) => call<SingerRow>("singer_add_typed", { row }),
@@ -424,7 +438,8 @@ export const api = {
   // audition
   auditionTasks: () => call<AuditionTask[]>("audition_tasks"),
   recordingStart: (task: TaskName) => call<void>("recording_start", { task }),
-  recordingStop: () => call<{ path: string; seconds: number }>("recording_stop"),
+  recordingStop: () =>
+    call<{ path: string; seconds: number; reachedLimit: boolean }>("recording_stop"),
   auditionAnalyse: (singer: string, files: TaskFile[]) => call<JobId>("audition_analyse", { singer, files }),
   auditionSave: (singer: string, files: TaskFile[], date: string) =>
     call<number>("audition_save", { singer, files, date }),

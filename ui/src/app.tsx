@@ -1,13 +1,15 @@
 /**
  * The frame: skip link, navigation between the six screens (hash routes such
- * as #singers), the open library's folder, the first-start demo banner, and
+ * as #singers), the open library's folder, the first-start demo banner, the
+ * demo library's preparation on a first start (progress from
+ * `library-status` events; the screens mount once a library is open), and
  * the shared state the screens read (library info, the cautions' wording).
  *
  * Invariant: no screen talks to the backend except through api.ts.
  */
 import { createContext } from "preact";
 import { useCallback, useContext, useEffect, useState } from "preact/hooks";
-import { api, backend, errorText, type LibraryInfo } from "./api";
+import { api, backend, errorText, onLibraryStatus, type LibraryInfo, type LibraryStatus } from "./api";
 import { ErrorMessage } from "./components/common";
 import { SingersScreen } from "./screens/singers";
 import { AuditionScreen } from "./screens/audition";
@@ -60,6 +62,7 @@ export function App() {
   const [error, setError] = useState<string | null>(null);
   const [fake, setFake] = useState(false);
   const [bannerClosed, setBannerClosed] = useState(false);
+  const [status, setStatus] = useState<LibraryStatus | null>(null);
 
   useEffect(() => {
     const onHash = () => setRoute(screenFromHash());
@@ -73,9 +76,31 @@ export function App() {
 
   useEffect(() => {
     backend().then((b) => setFake(b.isFake), (e) => setError(errorText(e)));
-    refreshLibrary();
     api.cautions().then(setCautions, (e) => setError(errorText(e)));
-  }, [refreshLibrary]);
+    // Listen first, then ask: no change is missed. An event that arrives
+    // before the answer is at least as recent, so it wins.
+    let unlisten: (() => void) | null = null;
+    let closed = false;
+    void (async () => {
+      try {
+        const stop = await onLibraryStatus((next) => setStatus(next));
+        if (closed) return stop();
+        unlisten = stop;
+        const now = await api.libraryStatus();
+        setStatus((previous) => previous ?? now);
+      } catch (e) {
+        setError(errorText(e));
+      }
+    })();
+    return () => {
+      closed = true;
+      unlisten?.();
+    };
+  }, []);
+
+  useEffect(() => {
+    if (status?.state === "ready") refreshLibrary();
+  }, [status, refreshLibrary]);
 
   const go = useCallback((screen: ScreenId, parameter?: string) => {
     window.location.hash = parameter ? `${screen}/${encodeURIComponent(parameter)}` : screen;
@@ -88,6 +113,16 @@ export function App() {
       const folder = await b.pickFolder("Choose an empty folder for the new library");
       if (!folder) return;
       setLibrary(await api.libraryCreateEmpty(folder));
+      go("singers");
+    } catch (e) {
+      setError(errorText(e));
+    }
+  }
+
+  async function openDemoLibrary() {
+    setError(null);
+    try {
+      setStatus(await api.libraryOpenDemo());
       go("singers");
     } catch (e) {
       setError(errorText(e));
@@ -153,6 +188,14 @@ export function App() {
           <button type="button" class="link small" onClick={openLibrary}>
             Open another library…
           </button>
+          {library && !library.isDemo && status?.state === "ready" && (
+            <>
+              {" · "}
+              <button type="button" class="link small" onClick={openDemoLibrary}>
+                Open the demo library
+              </button>
+            </>
+          )}
         </div>
       </header>
       {library?.isDemo && !bannerClosed && (
@@ -171,8 +214,64 @@ export function App() {
       )}
       <main id="main" tabIndex={-1}>
         <ErrorMessage error={error} />
-        <Screen key={route.screen} />
+        {status?.state === "ready" && library ? (
+          <Screen key={`${route.screen}:${library.folder}`} />
+        ) : (
+          <LibraryWait status={status} onNew={newEmptyLibrary} onOpen={openLibrary} />
+        )}
       </main>
     </SharedContext.Provider>
+  );
+}
+
+/**
+ * What the window shows until a library is open: the demo library's
+ * preparation with its progress (a first start), or why opening failed,
+ * with the ways on.
+ */
+export function LibraryWait({
+  status,
+  onNew,
+  onOpen,
+}: {
+  status: LibraryStatus | null;
+  onNew: () => void;
+  onOpen: () => void;
+}) {
+  if (status?.state === "failed") {
+    return (
+      <section class="library-wait" data-testid="library-failed" aria-labelledby="library-wait-title">
+        <h1 id="library-wait-title">No library is open</h1>
+        <ErrorMessage error={status.error ?? "The library could not be opened."} />
+        <p>
+          <button type="button" class="primary" onClick={onNew}>
+            New empty library
+          </button>{" "}
+          <button type="button" onClick={onOpen}>
+            Open another library…
+          </button>
+        </p>
+      </section>
+    );
+  }
+  if (status?.state === "preparing") {
+    return (
+      <section class="library-wait" data-testid="library-preparing" aria-labelledby="library-wait-title">
+        <h1 id="library-wait-title">Preparing the demo library</h1>
+        <p>
+          On its first start Ambit makes a demo library on this computer: it synthesises and measures the audition
+          recordings of an invented choir and analyses our sample scores. This happens once and takes a little while.
+        </p>
+        <progress max={Math.max(status.total, 1)} value={status.done} aria-labelledby="library-wait-step" />
+        <p id="library-wait-step" role="status" aria-live="polite" data-testid="library-preparing-step">
+          {status.done} of {status.total} steps: {status.label}
+        </p>
+      </section>
+    );
+  }
+  return (
+    <p class="muted" role="status">
+      Opening the library…
+    </p>
   );
 }

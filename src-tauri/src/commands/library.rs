@@ -5,9 +5,9 @@ use std::path::PathBuf;
 
 use ambit::library::Library;
 use serde::Serialize;
-use tauri::State;
+use tauri::{AppHandle, Runtime, State};
 
-use crate::state::{AppState, open_or_seed};
+use crate::state::{AppState, LibraryStatus};
 
 /// What the open library holds (`library_info`).
 #[derive(Debug, Clone, PartialEq, Serialize, serde::Deserialize)]
@@ -43,6 +43,13 @@ pub fn info_of(state: &AppState) -> Result<LibraryInfoView, String> {
     })
 }
 
+/// Whether a library is open, or the demo library is being prepared (with
+/// its progress), or opening failed.
+#[tauri::command]
+pub fn library_status(state: State<'_, AppState>) -> LibraryStatus {
+    state.status()
+}
+
 #[tauri::command]
 pub fn library_info(state: State<'_, AppState>) -> Result<LibraryInfoView, String> {
     info_of(&state)
@@ -53,6 +60,7 @@ pub fn library_open(
     state: State<'_, AppState>,
     folder: PathBuf,
 ) -> Result<LibraryInfoView, String> {
+    state.refuse_while_preparing()?;
     let library = Library::open(&folder).map_err(super::text)?;
     state.replace_library(library, false);
     info_of(&state)
@@ -63,14 +71,20 @@ pub fn library_create_empty(
     state: State<'_, AppState>,
     folder: PathBuf,
 ) -> Result<LibraryInfoView, String> {
+    state.refuse_while_preparing()?;
     let library = Library::create(&folder).map_err(super::text)?;
     state.replace_library(library, false);
     info_of(&state)
 }
 
-#[tauri::command(async)]
-pub fn library_open_demo(state: State<'_, AppState>) -> Result<LibraryInfoView, String> {
-    let (library, _) = open_or_seed(&state.demo_folder()?)?;
-    state.replace_library(library, true);
-    info_of(&state)
+/// Goes back to the demo library: opens it, or starts preparing it in the
+/// background (first use), and returns the status; `library-status` events
+/// follow while it is prepared.
+#[tauri::command]
+pub fn library_open_demo<R: Runtime>(
+    app: AppHandle<R>,
+    state: State<'_, AppState>,
+) -> Result<LibraryStatus, String> {
+    state.open_or_prepare(&app, state.demo_folder()?);
+    Ok(state.status())
 }

@@ -77,12 +77,17 @@ export function NotationExcerpt({ musicXml, label }: { musicXml: string; label: 
   }, [musicXml, inline]);
 
   return (
-    <figure style={{ margin: 0 }}>
+    <figure
+      style={{ margin: 0 }}
+      data-testid="notation-excerpt"
+      data-state={error ? "failed" : height === null ? "engraving" : inline ? "engraved-inline" : "engraved"}
+    >
       {inline ? (
         <div class="notation" ref={inlineHost} role="img" aria-label={`Notation: ${label}`} />
       ) : (
         <iframe
           ref={frame}
+          data-testid="notation-frame"
           class="notation"
           src="notation.html"
           title={`Notation: ${label}`}

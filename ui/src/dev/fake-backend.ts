@@ -268,8 +268,12 @@ async function answerTo(command: string, args: Record<string, any>): Promise<any
   state.info.singers = state.singers.filter((s) => !s.archived).length;
   state.info.archived = state.singers.filter((s) => s.archived).length;
   switch (command) {
-    case "library_info":
+    case "library_status":
+      return { state: "ready", done: 0, total: 0, label: "" };
     case "library_open_demo":
+      state.info = { ...state.info, isDemo: true };
+      return { state: "ready", done: 0, total: 0, label: "" };
+    case "library_info":
       return { ...state.info };
     case "library_open":
       return { ...state.info, folder: args.folder, isDemo: false };

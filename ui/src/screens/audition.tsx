@@ -43,6 +43,7 @@ export function AuditionScreen() {
   const [job, setJob] = useState<JobId | null>(null);
   const [result, setResult] = useState<AnalysedProfile | null>(null);
   const [error, setError] = useState<string | null>(null);
+  const [takeNote, setTakeNote] = useState<string | null>(null);
   const [saved, setSaved] = useState<string | null>(null);
   const buffer = useRef<PitchFrame[]>([]);
   const recordingNow = useRef<TaskName | null>(null);
@@ -87,17 +88,26 @@ export function AuditionScreen() {
   const files = (): TaskFile[] =>
     TASKS.filter((task) => paths[task].trim()).map((task) => ({ task, path: paths[task].trim() }));
 
+  function noteOn(take: { seconds: number; reachedLimit?: boolean }) {
+    setTakeNote(
+      take.reachedLimit ? `The take stopped at its limit and keeps its first ${Math.round(take.seconds / 60)} minutes.` : null,
+    );
+  }
+
   async function toggleRecording(task: TaskName) {
     setError(null);
+    setTakeNote(null);
     try {
       if (recordingTask === task) {
         const take = await api.recordingStop();
         setRecordingTask(null);
         setPaths((p) => ({ ...p, [task]: take.path }));
+        noteOn(take);
       } else {
         if (recordingTask !== null) {
           const take = await api.recordingStop();
           setPaths((p) => ({ ...p, [recordingTask]: take.path }));
+          noteOn(take);
         }
         await api.recordingStart(task);
         setRecordingTask(task);
@@ -175,6 +185,11 @@ export function AuditionScreen() {
           </div>
 
           <ErrorMessage error={error ?? tasks.error} />
+          {takeNote && (
+            <p class="notice" role="status">
+              {takeNote}
+            </p>
+          )}
 
           <ol class="tasks panel" aria-label="The five tasks">
             {TASKS.map((task, index) => {

@@ -368,7 +368,13 @@ function HotSpotButtons({ part, onShow }: { part: PartAnalysis; onShow: (part: P
       {part.hot_spots.map((spot, i) => (
         <Fragment key={i}>
           {i > 0 && " "}
-          <button type="button" class="link" onClick={() => onShow(part, spot)} aria-label={`${spot.kind} spot, bars ${spot.bars} of ${part.name}: show the notation`}>
+          <button
+            type="button"
+            class="link"
+            data-testid={`hot-spot-${part.name}-${i}`}
+            onClick={() => onShow(part, spot)}
+            aria-label={`${spot.kind} spot, bars ${spot.bars} of ${part.name}: show the notation`}
+          >
             {spot.bars}
           </button>
           <span class="small"> ({spot.kind === "high" ? "high" : "low"})</span>
