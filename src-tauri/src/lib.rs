@@ -51,6 +51,7 @@ pub fn with_commands<R: Runtime>(builder: tauri::Builder<R>, state: AppState) ->
             commands::planning::fit_matrix,
             commands::planning::place_solve,
             commands::planning::place_move,
+            commands::planning::seating_export,
             commands::planning::scenario_save,
             commands::planning::scenarios_list,
             commands::planning::transpose_advice,
@@ -73,6 +74,18 @@ pub fn run() {
             // progress (`library_status`, `library-status` events). A
             // failure is shown by the UI from the status.
             state.open_startup_library(app.handle());
+            #[cfg(target_os = "linux")]
+            if let Some(window) = app.get_webview_window("main") {
+                // The app shows only its own bundled pages, so WebKit's
+                // document-viewer cache model (no page or resource caches
+                // for browsing) fits it and keeps the web process smaller.
+                let _ = window.with_webview(|webview| {
+                    use webkit2gtk::{WebContextExt, WebViewExt};
+                    if let Some(context) = webview.inner().context() {
+                        context.set_cache_model(webkit2gtk::CacheModel::DocumentViewer);
+                    }
+                });
+            }
             Ok(())
         })
         .run(tauri::generate_context!());

@@ -873,3 +873,86 @@ fn key_advice_covers_each_shift_with_its_interval_and_the_cautions() {
         .expect_err("no such piece");
     assert!(error.contains("No Such Piece"), "{error}");
 }
+
+#[test]
+fn the_seating_list_is_written_as_csv_with_the_moves_made() {
+    let app = app(true);
+    let scratch = tempfile::tempdir().expect("scratch");
+    let path = scratch.path().join("seating.csv");
+    let error = app
+        .call("seating_export", json!({ "path": path }))
+        .expect_err("nothing is placed yet");
+    assert!(error.contains("optimiser"), "{error}");
+    assert!(!path.exists());
+
+    let score = repository().join("sample-scores/the-tide-clock.musicxml");
+    app.ok("piece_import", json!({ "path": score }));
+    let done = app.job("place_solve", json!({ "pieces": [], "layout": "SATB" }));
+    let assignments = done["result"]["assignments"]
+        .as_array()
+        .expect("assignments")
+        .clone();
+    let name = assignments[0]["singer"].as_str().expect("a name");
+    let from = assignments[0]["section"].as_str().expect("a section");
+    let to = if from == "B" { "T" } else { "B" };
+    app.ok("place_move", json!({ "name": name, "section": to }));
+
+    let rows = app.ok("seating_export", json!({ "path": path }));
+    assert_eq!(rows.as_u64(), Some(assignments.len() as u64));
+    // Read back with the csv crate (RFC 4180).
+    let mut reader = csv::Reader::from_path(&path).expect("a CSV file");
+    assert_eq!(
+        reader
+            .headers()
+            .expect("a header")
+            .iter()
+            .collect::<Vec<_>>(),
+        ["section", "singer", "fit"]
+    );
+    let records: Vec<csv::StringRecord> = reader.records().collect::<Result<_, _>>().expect("rows");
+    assert_eq!(records.len(), assignments.len());
+    let section_of = |singer: &str| {
+        records
+            .iter()
+            .find(|record| record.get(1) == Some(singer))
+            .and_then(|record| record.get(0).map(str::to_string))
+    };
+    assert_eq!(
+        section_of(name).as_deref(),
+        Some(to),
+        "the move is in the list"
+    );
+    // Sections in SATB order (common practice), each singer once.
+    let order = ["S", "A", "T", "B"];
+    let positions: Vec<usize> = records
+        .iter()
+        .map(|record| {
+            order
+                .iter()
+                .position(|section| Some(*section) == record.get(0))
+                .expect("an SATB section")
+        })
+        .collect();
+    assert!(
+        positions.windows(2).all(|pair| pair[0] <= pair[1]),
+        "{positions:?}"
+    );
+    let mut names: Vec<&str> = records.iter().filter_map(|record| record.get(1)).collect();
+    names.sort_unstable();
+    names.dedup();
+    assert_eq!(names.len(), records.len());
+    // Nothing else was left beside it.
+    let left: Vec<_> = std::fs::read_dir(scratch.path())
+        .expect("the folder")
+        .filter_map(|entry| entry.ok().map(|entry| entry.file_name()))
+        .collect();
+    assert_eq!(left, [std::ffi::OsString::from("seating.csv")]);
+
+    let error = app
+        .call(
+            "seating_export",
+            json!({ "path": scratch.path().join("no-such-folder/seating.csv") }),
+        )
+        .expect_err("no such folder");
+    assert!(error.contains("no-such-folder"), "{error}");
+}

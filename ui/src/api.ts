@@ -458,6 +458,7 @@ export const api = {
     call<FitMatrix>("fit_matrix", { pieces, layout, by }),
   placeSolve: (constraints: PlaceConstraints) => call<JobId>("place_solve", { ...constraints }),
   placeMove: (name: string, section: string) => call<PlaceMove>("place_move", { name, section }),
+  seatingExport: (path: string) => call<number>("seating_export", { path }),
   scenarioSave: (name: string, notes: string, result: unknown, constraints?: unknown) =>
     call<number>("scenario_save", { name, notes, result, constraints }),
   scenariosList: () => call<ScenarioSummary[]>("scenarios_list"),

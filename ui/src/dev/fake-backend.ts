@@ -395,6 +395,9 @@ async function answerTo(command: string, args: Record<string, any>): Promise<any
       const constraints = args as PlaceConstraints;
       return startJob(() => (state.placement = placement(constraints)), ["fit matrix", "min-cost flow"]);
     }
+    case "seating_export":
+      if (!state.placement) throw "no placement yet: run the optimiser first";
+      return state.placement.assignments.length;
     case "place_move": {
       const placed = state.placement;
       if (!placed) throw "run the placement first";

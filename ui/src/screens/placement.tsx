@@ -7,6 +7,7 @@
 import { useEffect, useRef, useState } from "preact/hooks";
 import {
   api,
+  backend,
   errorText,
   runJob,
   type JobId,
@@ -127,16 +128,17 @@ export function PlacementScreen() {
     return csvText([["section", "singer", "fit"], ...rows.map((a) => [a.section, a.singer, a.fit.toFixed(1)])]);
   }
 
-  function exportCsv() {
+  async function exportCsv() {
     if (!result) return;
-    const text = seatingCsv(result);
-    const link = document.createElement("a");
-    link.href = URL.createObjectURL(new Blob([text], { type: "text/csv;charset=utf-8" }));
-    link.download = `seating-${layout}-${today()}.csv`;
-    document.body.appendChild(link);
-    link.click();
-    link.remove();
-    setNotice(`Seating list saved as ${link.download} in your downloads folder.`);
+    setError(null);
+    try {
+      const path = await (await backend()).pickSaveFile("Export the seating list", `seating-${layout}-${today()}.csv`, ["csv"]);
+      if (!path) return;
+      const rows = await api.seatingExport(path);
+      setNotice(`Seating list of ${rows} singers written to ${path}.`);
+    } catch (e) {
+      setError(errorText(e));
+    }
   }
 
   const activeSingers = (singers.data ?? []).map((s) => s.name);
