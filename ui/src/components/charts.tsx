@@ -7,7 +7,7 @@
  * nothing is told by colour alone.
  */
 import type { PitchFrame, HistoryEntry, Passaggio } from "../api";
-import { axisKeys, axisLabels, keyLeft, keyboardAxis, type KeyboardAxis, xOfMidi } from "../lib/keyboard";
+import { axisKeys, axisLabels, keyLeft, keyboardAxis, type KeyboardAxis, labelSides, xOfMidi } from "../lib/keyboard";
 import { hzToMidi, isBlackKey, midiToName, pitchClass } from "../lib/pitch";
 import { theme } from "../lib/theme";
 
@@ -77,6 +77,15 @@ export function RangeOnKeyboard({
   const passaggioTop = top + rows.length * rowHeight;
   const keysY = passaggioTop + 34;
   const height = keysY + 44 + FONT + 4;
+  const passaggioText = (p: Passaggio) =>
+    `${p.kind} ${p.name} ${p.source === "typical" ? "(typical, not measured)" : "(measured)"}`;
+  // Each label on a row of its own, on the side of its line that crosses no
+  // other passaggio line when it can (text width estimated from its length).
+  const passaggioSides = labelSides(
+    passaggi.map((p) => ({ x: xOfMidi(axis, p.midi), width: passaggioText(p).length * (FONT - 1) * 0.6 + 4 })),
+    labelWidth,
+    width,
+  );
   const description =
     `Range ${range.low} to ${range.high}; comfort zone ${comfort.low} to ${comfort.high}` +
     (passaggi.length ? `; passaggi ${passaggi.map((p) => `${p.kind} ${p.name} (${p.source})`).join(", ")}` : "");
@@ -116,12 +125,12 @@ export function RangeOnKeyboard({
       </text>
       {passaggi.map((p, i) => {
         const x = xOfMidi(axis, p.midi);
-        const leftward = x > width * 0.62;
+        const leftward = passaggioSides[i] === "left";
         return (
           <g key={p.kind}>
             <line x1={x} x2={x} y1={top} y2={keysY + 44} stroke={theme.passaggio} stroke-width={2} stroke-dasharray={p.source === "typical" ? "5 3" : undefined} />
             <text x={leftward ? x - 4 : x + 4} text-anchor={leftward ? "end" : "start"} y={passaggioTop + 14 + i * 13} font-size={FONT - 1} fill={theme.passaggio} font-weight={600}>
-              {p.kind} {p.name} {p.source === "typical" ? "(typical, not measured)" : "(measured)"}
+              {passaggioText(p)}
             </text>
           </g>
         );

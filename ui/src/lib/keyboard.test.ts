@@ -1,5 +1,5 @@
 import { describe, expect, it } from "vitest";
-import { axisKeys, axisLabels, keyboardAxis, xOfMidi } from "./keyboard";
+import { axisKeys, axisLabels, keyboardAxis, labelSides, xOfMidi } from "./keyboard";
 
 describe("keyboard axis", () => {
   it("pads a range out to whole octaves from C to B", () => {
@@ -48,5 +48,49 @@ describe("keyboard axis", () => {
     const empty = keyboardAxis(Number.NaN, Number.NaN, 240);
     expect(empty.lowMidi).toBe(48);
     expect(empty.highMidi).toBe(83);
+  });
+});
+
+describe("passaggio labels beside their marks", () => {
+  it("puts the lower of two close marks' labels to the left, so neither crosses the other mark", () => {
+    // Marks 40 px apart with 150 px labels, bounds −100…600: to the right,
+    // the first label would span 100…250 and cross the mark at 140; to the
+    // left it spans −50…100 and crosses nothing.
+    const sides = labelSides(
+      [
+        { x: 100, width: 150 },
+        { x: 140, width: 150 },
+      ],
+      -100,
+      600,
+    );
+    expect(sides).toEqual(["left", "right"]);
+    // Check the geometry itself: no label's span holds the other mark.
+    const spans = sides.map((side, i) => {
+      const x = [100, 140][i];
+      return side === "right" ? [x, x + 150] : [x - 150, x];
+    });
+    expect(140 > spans[0][0] && 140 < spans[0][1]).toBe(false);
+    expect(100 > spans[1][0] && 100 < spans[1][1]).toBe(false);
+  });
+
+  it("keeps a label inside the chart before it avoids a mark", () => {
+    // A mark 20 px from the right edge: its 150 px label cannot go right.
+    expect(labelSides([{ x: 580, width: 150 }], 0, 600)).toEqual(["left"]);
+    // A mark 20 px from the left edge: its label cannot go left.
+    expect(labelSides([{ x: 20, width: 150 }], 0, 600)).toEqual(["right"]);
+  });
+
+  it("prefers the right when both sides are clear", () => {
+    expect(
+      labelSides(
+        [
+          { x: 100, width: 50 },
+          { x: 400, width: 50 },
+        ],
+        0,
+        600,
+      ),
+    ).toEqual(["right", "right"]);
   });
 });

@@ -76,3 +76,33 @@ export function axisLabels(axis: KeyboardAxis): { midi: number; name: string; x:
   }
   return labels;
 }
+
+/** A label beside a vertical mark at `x`, about `width` pixels wide. */
+export interface MarkLabel {
+  x: number;
+  width: number;
+}
+
+/**
+ * Which side of its mark each label goes, so that labels stay inside
+ * minX…maxX and cross as few of the other marks as possible (a label on the
+ * right spans x…x + width, on the left x − width…x); right wins a tie.
+ * Labels sit on rows of their own, so only the marks can be crossed.
+ */
+export function labelSides(labels: MarkLabel[], minX: number, maxX: number): ("left" | "right")[] {
+  return labels.map((label, index) => {
+    const score = (side: "left" | "right") => {
+      const from = side === "right" ? label.x : label.x - label.width;
+      const to = from + label.width;
+      const overflow = Math.max(0, minX - from) + Math.max(0, to - maxX);
+      const crossed = labels.filter((other, j) => j !== index && other.x > from && other.x < to).length;
+      return { overflow, crossed };
+    };
+    const right = score("right");
+    const left = score("left");
+    if (right.overflow !== left.overflow && (right.overflow > 0 || left.overflow > 0)) {
+      return right.overflow < left.overflow ? "right" : "left";
+    }
+    return left.crossed < right.crossed ? "left" : "right";
+  });
+}
