@@ -11,7 +11,6 @@
 pub mod commands;
 pub mod jobs;
 pub mod recorder;
-pub mod seed;
 pub mod state;
 
 use tauri::{Manager, Runtime};

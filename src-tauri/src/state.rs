@@ -2,9 +2,10 @@
 //! library's folder, running jobs, the recording in progress, the last
 //! placement (for what-if moves) and the last measured profile.
 
-use std::path::{Path, PathBuf};
+use std::path::PathBuf;
 use std::sync::Mutex;
 
+use ambit::demo::seed::create_demo_library;
 use ambit::library::{LIBRARY_ENV, Library, LibraryError};
 use ambit::placement::{Placement, PlacementProblem};
 use ambit::voice::Profile;
@@ -156,7 +157,7 @@ impl AppState {
             .name("ambit-demo-library".to_string())
             .spawn(move || {
                 let state = handle.state::<AppState>();
-                let outcome = prepare_demo(&folder, &mut |done, total, label| {
+                let outcome = create_demo_library(&folder, &mut |done, total, label| {
                     state.set_status(
                         &handle,
                         LibraryStatus {
@@ -173,7 +174,7 @@ impl AppState {
                         state.replace_library(library, true);
                         state.set_status(&handle, ready());
                     }
-                    Err(error) => state.fail(&handle, error),
+                    Err(error) => state.fail(&handle, error.to_string()),
                 }
             });
         if let Err(error) = spawned {
@@ -273,47 +274,4 @@ fn ready() -> LibraryStatus {
         state: LibraryState::Ready,
         ..LibraryStatus::default()
     }
-}
-
-/// Makes the demo library in `folder`: seeded in a sibling folder
-/// `<folder>.partial` and renamed into place only when complete, so an
-/// interrupted start leaves no half-made library behind (the next start
-/// removes the partial folder and begins again). `folder` must be missing or
-/// empty.
-pub fn prepare_demo(
-    folder: &Path,
-    progress: &mut dyn FnMut(usize, usize, &str),
-) -> Result<Library, String> {
-    let Some(name) = folder.file_name() else {
-        return Err(format!("{}: not a folder name", folder.display()));
-    };
-    if let Ok(mut entries) = std::fs::read_dir(folder)
-        && entries.next().is_some()
-    {
-        return Err(format!(
-            "{}: the folder holds files but no library; choose an empty folder",
-            folder.display()
-        ));
-    }
-    let mut partial_name = name.to_os_string();
-    partial_name.push(".partial");
-    let partial = folder.with_file_name(partial_name);
-    let io = |path: &Path, error: std::io::Error| format!("{}: {error}", path.display());
-    if partial.exists() {
-        std::fs::remove_dir_all(&partial).map_err(|error| io(&partial, error))?;
-    }
-    let mut library = Library::create(&partial).map_err(|error| error.to_string())?;
-    if let Err(error) = crate::seed::seed_demo(&mut library, progress) {
-        drop(library);
-        let _ = std::fs::remove_dir_all(&partial);
-        return Err(error);
-    }
-    // Close the database (its WAL is checkpointed) before the folder moves.
-    drop(library);
-    if folder.exists() {
-        // Empty (checked above): rename cannot replace it on every platform.
-        std::fs::remove_dir(folder).map_err(|error| io(folder, error))?;
-    }
-    std::fs::rename(&partial, folder).map_err(|error| io(folder, error))?;
-    Library::open(folder).map_err(|error| error.to_string())
 }

@@ -175,6 +175,56 @@ pub fn seed_library(
     result
 }
 
+/// Makes a new library in `folder` holding the demo: seeded in a sibling
+/// folder `<folder>.partial` and renamed into place only when complete, so an
+/// interrupted run leaves no half-made library behind (the next run removes
+/// the partial folder and begins again). `folder` must be missing or empty.
+/// `progress` as for [`seed_library`].
+pub fn create_demo_library(
+    folder: &Path,
+    progress: &mut dyn FnMut(usize, usize, &str),
+) -> Result<Library, LibraryError> {
+    let invalid = |message: &str| LibraryError::Invalid {
+        file: folder.to_path_buf(),
+        message: message.to_string(),
+    };
+    let io = |path: &Path| {
+        let file = path.to_path_buf();
+        move |source| LibraryError::Io { file, source }
+    };
+    let name = folder
+        .file_name()
+        .ok_or_else(|| invalid("not a folder name"))?;
+    if let Ok(mut entries) = std::fs::read_dir(folder)
+        && entries.next().is_some()
+    {
+        return Err(invalid(
+            "the folder holds files but no library; choose an empty folder",
+        ));
+    }
+    let mut partial_name = name.to_os_string();
+    partial_name.push(".partial");
+    let partial = folder.with_file_name(partial_name);
+    if partial.exists() {
+        std::fs::remove_dir_all(&partial).map_err(io(&partial))?;
+    }
+    let mut library = Library::create(&partial)?;
+    let staging = partial.join("demo-staging");
+    if let Err(error) = seed_library(&mut library, &staging, progress) {
+        drop(library);
+        let _ = std::fs::remove_dir_all(&partial);
+        return Err(error);
+    }
+    // Close the database (its WAL is checkpointed) before the folder moves.
+    drop(library);
+    if folder.exists() {
+        // Empty (checked above): rename cannot replace it on every platform.
+        std::fs::remove_dir(folder).map_err(io(folder))?;
+    }
+    std::fs::rename(&partial, folder).map_err(io(folder))?;
+    Library::open(folder)
+}
+
 fn seed_into(
     library: &mut Library,
     staging: &Path,
