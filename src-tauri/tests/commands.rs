@@ -5,23 +5,17 @@
 //! notation, ISO 16 A4 = 440 Hz, equal temperament), the sample score's own
 //! part list, and the files on disk.
 
+mod common;
+
 use std::path::{Path, PathBuf};
 use std::sync::mpsc;
 use std::time::Duration;
 
 use ambit::library::Library;
 use ambit_app::AppState;
+use common::TestApp;
 use serde_json::{Value, json};
-use tauri::Listener;
-use tauri::test::{INVOKE_KEY, MockRuntime, mock_builder, mock_context, noop_assets};
-use tauri::webview::InvokeRequest;
-use tauri::{App, Manager, WebviewWindow};
-
-struct TestApp {
-    app: App<MockRuntime>,
-    window: WebviewWindow<MockRuntime>,
-    folder: tempfile::TempDir,
-}
+use tauri::{Listener, Manager};
 
 /// The app on a new library; `with_choir` adds the demo choir as a typed-in
 /// roster (the app's first start measures their synthesised auditions too,
@@ -34,66 +28,10 @@ fn app(with_choir: bool) -> TestApp {
             .import_roster(&ambit::demo::seed::demo_roster())
             .expect("the demo roster imports");
     }
-    let app = ambit_app::with_commands(mock_builder(), AppState::opened(library, with_choir))
-        .build(mock_context(noop_assets()))
-        .expect("the app builds");
-    let window = tauri::WebviewWindowBuilder::new(&app, "main", Default::default())
-        .build()
-        .expect("a window");
-    TestApp {
-        app,
-        window,
-        folder,
-    }
+    TestApp::build(AppState::opened(library, with_choir), folder)
 }
 
 impl TestApp {
-    fn call(&self, command: &str, arguments: Value) -> Result<Value, String> {
-        tauri::test::get_ipc_response(
-            &self.window,
-            InvokeRequest {
-                cmd: command.into(),
-                callback: tauri::ipc::CallbackFn(0),
-                error: tauri::ipc::CallbackFn(1),
-                // The app's own origin on Linux and macOS (Windows: http://tauri.localhost).
-                url: "tauri://localhost".parse().expect("a URL"),
-                body: tauri::ipc::InvokeBody::Json(arguments),
-                headers: Default::default(),
-                invoke_key: INVOKE_KEY.to_string(),
-            },
-        )
-        .map(|body| body.deserialize::<Value>().expect("JSON"))
-        .map_err(|error| match error {
-            Value::String(message) => message,
-            other => other.to_string(),
-        })
-    }
-
-    fn ok(&self, command: &str, arguments: Value) -> Value {
-        self.call(command, arguments)
-            .unwrap_or_else(|error| panic!("{command}: {error}"))
-    }
-
-    /// Starts a job and waits for its `job-done` event.
-    fn job(&self, command: &str, arguments: Value) -> Value {
-        let (sender, receiver) = mpsc::channel::<String>();
-        let id = self.app.listen_any("job-done", move |event| {
-            let _ = sender.send(event.payload().to_string());
-        });
-        let job = self.ok(command, arguments);
-        let done = loop {
-            let payload = receiver
-                .recv_timeout(Duration::from_secs(600))
-                .expect("job-done within ten minutes");
-            let done: Value = serde_json::from_str(&payload).expect("JSON");
-            if done["job"] == job {
-                break done;
-            }
-        };
-        self.app.unlisten(id);
-        done
-    }
-
     fn library(&self) -> PathBuf {
         self.folder.path().join("library")
     }
@@ -389,20 +327,7 @@ fn starting_app() -> (TestApp, PathBuf) {
     let demo = folder.path().join("demo-library");
     let state = AppState::default();
     state.set_demo_folder(demo.clone());
-    let app = ambit_app::with_commands(mock_builder(), state)
-        .build(mock_context(noop_assets()))
-        .expect("the app builds");
-    let window = tauri::WebviewWindowBuilder::new(&app, "main", Default::default())
-        .build()
-        .expect("a window");
-    (
-        TestApp {
-            app,
-            window,
-            folder,
-        },
-        demo,
-    )
+    (TestApp::build(state, folder), demo)
 }
 
 impl TestApp {
@@ -653,24 +578,14 @@ fn a_cancelled_job_ends_with_cancelled_and_an_unknown_job_is_not_an_error() {
             json!({ "task": task, "path": path })
         })
         .collect();
-    let (sender, receiver) = mpsc::channel::<String>();
-    app.app.listen_any("job-done", move |event| {
-        let _ = sender.send(event.payload().to_string());
-    });
-    let job = app.ok(
+    let done = app.job_with(
         "audition_analyse",
         json!({ "singer": "Pell Marrow", "files": files }),
+        |job| {
+            app.ok("job_cancel", json!({ "job": job }));
+        },
     );
-    app.ok("job_cancel", json!({ "job": job }));
-    let done = loop {
-        let payload = receiver
-            .recv_timeout(Duration::from_secs(600))
-            .expect("job-done");
-        let done: Value = serde_json::from_str(&payload).expect("JSON");
-        if done["job"] == job {
-            break done;
-        }
-    };
+    let job = done["job"].clone();
     assert_eq!(done["error"], "cancelled", "{done}");
     assert!(done["result"].is_null());
     // Cancelling again, or a job that never was, is harmless.

@@ -22,12 +22,13 @@ use std::path::Path;
 use std::sync::mpsc;
 use std::time::Duration;
 
+mod common;
+
 use ambit::library::Library;
 use ambit_app::AppState;
+use common::TestApp;
 use serde_json::{Value, json};
 use tauri::Listener;
-use tauri::test::{INVOKE_KEY, mock_builder, mock_context, noop_assets};
-use tauri::webview::InvokeRequest;
 
 const RATE: u32 = 48_000;
 /// 220 Hz is A3: 440 · 2^((57 − 69)/12) (ISO 16 A4 = 440 Hz, equal temperament).
@@ -83,30 +84,10 @@ fn a_take_from_an_alsa_capture_device_is_saved_as_wav_and_traced_live_with_note_
     unsafe { std::env::set_var("ALSA_CONFIG_PATH", &config) };
 
     let library = Library::create(&folder.path().join("library")).expect("a library");
-    let app = ambit_app::with_commands(mock_builder(), AppState::opened(library, false))
-        .build(mock_context(noop_assets()))
-        .expect("the app builds");
-    let window = tauri::WebviewWindowBuilder::new(&app, "main", Default::default())
-        .build()
-        .expect("a window");
-    let call = |command: &str, arguments: Value| -> Result<Value, String> {
-        tauri::test::get_ipc_response(
-            &window,
-            InvokeRequest {
-                cmd: command.into(),
-                callback: tauri::ipc::CallbackFn(0),
-                error: tauri::ipc::CallbackFn(1),
-                url: "tauri://localhost".parse().expect("a URL"),
-                body: tauri::ipc::InvokeBody::Json(arguments),
-                headers: Default::default(),
-                invoke_key: INVOKE_KEY.to_string(),
-            },
-        )
-        .map(|body| body.deserialize::<Value>().expect("JSON"))
-        .map_err(|error| error.to_string())
-    };
+    let app = TestApp::build(AppState::opened(library, false), folder);
+    let call = |command: &str, arguments: Value| app.call(command, arguments);
     let (sender, frames) = mpsc::channel::<String>();
-    app.listen_any("pitch-frame", move |event| {
+    app.app.listen_any("pitch-frame", move |event| {
         let _ = sender.send(event.payload().to_string());
     });
 
