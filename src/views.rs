@@ -252,3 +252,31 @@ pub fn place_view_layout(view: &serde_json::Value) -> Option<String> {
                 .join(",")
         })
 }
+
+/// The seating list as CSV, `section,singer,fit`: sections in the order of
+/// `sections` (the layout's), singers by name within each, fits to one
+/// decimal.
+pub fn seating_to_csv(placement: &Placement, sections: &[String]) -> Result<String, csv::Error> {
+    let position = |section: &str| sections.iter().position(|name| name == section);
+    let mut rows: Vec<_> = placement.assignments.iter().collect();
+    rows.sort_by(|a, b| {
+        position(&a.section)
+            .cmp(&position(&b.section))
+            .then_with(|| a.singer.cmp(&b.singer))
+    });
+    let mut writer = csv::Writer::from_writer(Vec::new());
+    writer.write_record(["section", "singer", "fit"])?;
+    for assignment in rows {
+        writer.write_record([
+            assignment.section.as_str(),
+            assignment.singer.as_str(),
+            &format!("{:.1}", assignment.fit),
+        ])?;
+    }
+    let bytes = writer
+        .into_inner()
+        .map_err(|error| csv::Error::from(error.into_error()))?;
+    String::from_utf8(bytes).map_err(|error| {
+        csv::Error::from(std::io::Error::new(std::io::ErrorKind::InvalidData, error))
+    })
+}

@@ -39,7 +39,7 @@ pub struct ReportDocument<'a> {
 pub enum ReportError {
     #[error("rendering the report: {0}")]
     Render(#[from] askama::Error),
-    #[error("{}: cannot write the report: {source}", path.display())]
+    #[error("{}: cannot write the file: {source}", path.display())]
     Write {
         path: PathBuf,
         #[source]

@@ -12,11 +12,12 @@ use ambit::placement::{
     PlacementConfig, PlacementError, SizeLimit, Violation, evaluate, place, what_if,
 };
 use ambit::plan::{PlanConstraints, ProgrammeConfig, divisi_choices, placement_problem};
+use ambit::report::write_atomically;
 use ambit::roster::Roster;
 use ambit::score::Piece;
 use ambit::sections::Layout;
 use ambit::transpose::{TransposeConfig, choir_keys};
-use ambit::views::place_view;
+use ambit::views::{place_view, seating_to_csv};
 use serde::{Deserialize, Serialize};
 use tauri::{AppHandle, Runtime, State};
 
@@ -513,58 +514,21 @@ pub fn place_move(
 }
 
 /// Writes the seating list now on screen (the optimum with the moves made
-/// since) as CSV, `section,singer,fit`: sections in layout order, singers by
-/// name within each. Written to a temporary file beside `path` and renamed
-/// into place, so a failed export leaves no half-written list. Returns the
-/// number of singers written.
+/// since) as CSV (`ambit::views::seating_to_csv`), whole or not at all.
+/// Returns the number of singers written.
 #[tauri::command]
 pub fn seating_export(state: State<'_, AppState>, path: PathBuf) -> Result<usize, String> {
-    let csv = {
+    let (csv, rows) = {
         let guard = lock(&state.placement);
         let current = guard
             .as_ref()
             .ok_or_else(|| "no placement yet: run the optimiser first".to_string())?;
-        seating_csv(current).map_err(|error| format!("{}: {error}", path.display()))?
+        let csv = seating_to_csv(&current.placement, &current.matrix.sections)
+            .map_err(|error| format!("{}: {error}", path.display()))?;
+        (csv, current.placement.assignments.len())
     };
-    let (text, rows) = csv;
-    let file_name = path
-        .file_name()
-        .ok_or_else(|| format!("{}: not a file name", path.display()))?;
-    let mut partial_name = std::ffi::OsString::from(".");
-    partial_name.push(file_name);
-    partial_name.push(".partial");
-    let partial = path.with_file_name(partial_name);
-    let written = std::fs::write(&partial, text).and_then(|()| std::fs::rename(&partial, &path));
-    if let Err(error) = written {
-        let _ = std::fs::remove_file(&partial);
-        return Err(format!("{}: {error}", path.display()));
-    }
+    write_atomically(&path, csv.as_bytes()).map_err(text)?;
     Ok(rows)
-}
-
-/// The seating list as CSV text and its number of rows.
-fn seating_csv(current: &CurrentPlacement) -> Result<(Vec<u8>, usize), csv::Error> {
-    let order = &current.matrix.sections;
-    let position = |section: &str| order.iter().position(|name| name == section);
-    let mut rows: Vec<_> = current.placement.assignments.iter().collect();
-    rows.sort_by(|a, b| {
-        position(&a.section)
-            .cmp(&position(&b.section))
-            .then_with(|| a.singer.cmp(&b.singer))
-    });
-    let mut writer = csv::Writer::from_writer(Vec::new());
-    writer.write_record(["section", "singer", "fit"])?;
-    for assignment in &rows {
-        writer.write_record([
-            assignment.section.as_str(),
-            assignment.singer.as_str(),
-            &format!("{:.1}", assignment.fit),
-        ])?;
-    }
-    let text = writer
-        .into_inner()
-        .map_err(|error| csv::Error::from(error.into_error()))?;
-    Ok((text, rows.len()))
 }
 
 #[tauri::command]

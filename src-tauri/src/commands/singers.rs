@@ -238,7 +238,7 @@ pub fn roster_import_commit(
 pub fn roster_export(state: State<'_, AppState>, path: PathBuf) -> Result<(), String> {
     let (roster, _) = state.with_library(|library| library.roster())?;
     let csv = roster_to_csv(&roster).map_err(|error| format!("{}: {error}", path.display()))?;
-    std::fs::write(&path, csv).map_err(|error| format!("{}: {error}", path.display()))
+    ambit::report::write_atomically(&path, csv.as_bytes()).map_err(super::text)
 }
 
 #[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
