@@ -525,15 +525,24 @@ fn format_roster_pitch(midi: f64) -> String {
 }
 
 /// The roster row for a measured profile, so measured and typed-in singers
-/// mix in one roster. Passaggi that were not measured are left out (a typed
-/// roster's primo and secondo are known values, not guesses).
+/// mix in one roster. This is the one conversion from a profile to a
+/// [`Singer`]: the CLI's roster rows, the library, the app and the demo all
+/// call it, so one audition gives the same figures through every front end.
+///
+/// - Passaggi that were not measured are left out: a roster's primo and
+///   secondo are known values, not the typical values a profile falls back
+///   to. A measured pair in the wrong order is dropped whole.
+/// - Pitches are kept to whole cents, the precision a roster file holds
+///   (`format_roster_pitch`), so a singer written to CSV and read back gives
+///   the same fits as the profile itself.
+/// - The section is the profile's suggestion, `None` when it has none.
 pub fn singer_from_profile(name: &str, profile: &crate::voice::Profile) -> Singer {
     use crate::voice::{PassaggioKind, PassaggioSource};
     let measured = |kind: PassaggioKind| {
         profile
             .passaggio(kind)
             .filter(|passaggio| passaggio.source == PassaggioSource::Measured)
-            .map(|passaggio| passaggio.midi)
+            .map(|passaggio| to_cents(passaggio.midi))
     };
     let primo_midi = measured(PassaggioKind::Primo);
     let secondo_midi = measured(PassaggioKind::Secondo);
@@ -542,22 +551,29 @@ pub fn singer_from_profile(name: &str, profile: &crate::voice::Profile) -> Singe
         (Some(primo), Some(secondo)) if primo > secondo => (None, None),
         pair => pair,
     };
+    let section = profile.section.trim();
     Singer {
         name: name.to_string(),
-        range_low_midi: profile.range.low_midi,
-        range_high_midi: profile.range.high_midi,
-        comfort_low_midi: profile.comfort.span.low_midi,
-        comfort_high_midi: profile.comfort.span.high_midi,
+        range_low_midi: to_cents(profile.range.low_midi),
+        range_high_midi: to_cents(profile.range.high_midi),
+        comfort_low_midi: to_cents(profile.comfort.span.low_midi),
+        comfort_high_midi: to_cents(profile.comfort.span.high_midi),
         primo_midi,
         secondo_midi,
         voice_type: Some(profile.voice_type.label.clone()),
-        section: (!profile.section.is_empty()).then(|| profile.section.clone()),
+        section: (!section.is_empty()).then(|| section.to_string()),
         notes: Some(format!(
             "measured profile: {} ({:.0} %)",
             profile.voice_type.label,
             100.0 * profile.voice_type.confidence
         )),
     }
+}
+
+/// A MIDI pitch rounded to a whole cent (0.01 semitone): what a roster
+/// file writes, and read back as the same `f64`.
+fn to_cents(midi: f64) -> f64 {
+    (midi * 100.0).round() / 100.0
 }
 
 /// One singer as a roster CSV data row (no header), in the columns that

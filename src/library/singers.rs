@@ -8,8 +8,8 @@ use rusqlite::{OptionalExtension, Transaction, params};
 use serde::{Deserialize, Serialize};
 
 use super::{Library, LibraryError, RECORDINGS_DIR, now_timestamp};
-use crate::roster::{Roster, Singer, name_key};
-use crate::voice::{PassaggioKind, Profile};
+use crate::roster::{Roster, Singer, name_key, singer_from_profile};
+use crate::voice::Profile;
 
 /// Where a singer's current range comes from.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize, Deserialize)]
@@ -84,22 +84,6 @@ fn pitch_text(midi: Option<f64>) -> String {
         Some(midi) if midi.fract() == 0.0 => crate::pitch::midi_name(midi as i32),
         Some(midi) => format!("{midi:.2}"),
         None => "-".into(),
-    }
-}
-
-/// The singer as the engine takes them, from a measured profile.
-pub(crate) fn singer_from_profile(name: &str, profile: &Profile) -> Singer {
-    Singer {
-        name: name.to_string(),
-        range_low_midi: profile.range.low_midi,
-        range_high_midi: profile.range.high_midi,
-        comfort_low_midi: profile.comfort.span.low_midi,
-        comfort_high_midi: profile.comfort.span.high_midi,
-        primo_midi: profile.passaggio(PassaggioKind::Primo).map(|p| p.midi),
-        secondo_midi: profile.passaggio(PassaggioKind::Secondo).map(|p| p.midi),
-        voice_type: Some(profile.voice_type.label.clone()),
-        section: Some(profile.section.clone()),
-        notes: None,
     }
 }
 
