@@ -27,5 +27,6 @@ pub mod synth;
 pub mod tessitura;
 pub mod track;
 pub mod transpose;
+pub mod usecases;
 pub mod views;
 pub mod voice;

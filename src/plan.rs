@@ -234,6 +234,8 @@ pub struct DivisiChoice {
 #[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
 pub struct PlacedProgramme {
     pub matrix: crate::fit::SectionFitMatrix,
+    /// The problem the placement solves, for what-if moves on it.
+    pub problem: crate::placement::PlacementProblem,
     pub placement: crate::placement::Placement,
     pub divisi: Vec<DivisiChoice>,
 }
@@ -358,6 +360,7 @@ pub fn place_programme(
     let divisi = divisi_choices(roster, &matrix, &placement, config)?;
     Ok(PlacedProgramme {
         matrix,
+        problem,
         placement,
         divisi,
     })
@@ -380,6 +383,7 @@ pub fn plan_programme(
         matrix,
         placement,
         divisi,
+        ..
     } = place_programme(roster, programme, layout, constraints, config)?;
     let mut placed = roster.clone();
     for (singer, assignment) in placed.singers.iter_mut().zip(&placement.assignments) {

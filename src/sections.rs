@@ -194,6 +194,20 @@ impl Layout {
     pub fn labels(&self) -> Vec<String> {
         self.sections.iter().map(Section::to_string).collect()
     }
+
+    /// The shortest name that [`Layout::parse`] reads back as exactly these
+    /// section labels: the string of voice letters (`SSAATTBB`) when that
+    /// gives them, else the comma list (`S1,S2,A,T,B`).
+    pub fn name_of(labels: &[String]) -> String {
+        let letters: String = labels
+            .iter()
+            .filter_map(|label| label.chars().next())
+            .collect();
+        match Layout::parse(&letters) {
+            Ok(layout) if letters.len() == labels.len() && layout.labels() == labels => letters,
+            _ => labels.join(","),
+        }
+    }
 }
 
 /// What a part was recognised as.
