@@ -9,7 +9,7 @@ use std::time::Instant;
 
 use clap::Args;
 
-use ambit::demo::run::{DemoConfig, DemoResult, run_demo, write_outputs};
+use ambit::demo::run::{DemoConfig, DemoResult, run_demo_with_progress, write_outputs};
 
 use super::place::write_at_risk;
 use super::write_stdout;
@@ -34,7 +34,10 @@ pub fn run(arguments: DemoArgs) -> anyhow::Result<()> {
         auditions_dir: Some(auditions.clone()),
         ..DemoConfig::default()
     };
-    let result = run_demo(&config)?;
+    let result = {
+        let bar = super::progress::Bar::new();
+        run_demo_with_progress(&config, &bar)?
+    };
     let outputs = write_outputs(&result, &arguments.out)?;
     let recordings: usize = result
         .singers

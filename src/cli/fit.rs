@@ -15,8 +15,11 @@ use ambit::score::{ReadOptions, read_score};
 #[derive(Debug, Args)]
 pub struct FitArgs {
     /// Roster: CSV (name, range_low, range_high, comfort_low, comfort_high, …) or Ambit's JSON.
-    #[arg(long)]
-    pub roster: PathBuf,
+    #[arg(long, required_unless_present = "library", conflicts_with = "library")]
+    pub roster: Option<PathBuf>,
+    /// Take the roster from this choir library (its active singers with a range).
+    #[arg(long, value_name = "PATH")]
+    pub library: Option<PathBuf>,
     /// Score files (MIDI, MusicXML, .mxl).
     #[arg(required = true)]
     pub scores: Vec<PathBuf>,
@@ -40,7 +43,17 @@ struct RecordJson<'a> {
 }
 
 pub fn run(arguments: FitArgs) -> anyhow::Result<()> {
-    let roster = read_roster(&arguments.roster)?;
+    let (roster, source) = match (&arguments.roster, &arguments.library) {
+        (Some(path), _) => (read_roster(path)?, path.display().to_string()),
+        (None, library) => {
+            let folder = ambit::library::resolve_folder(library.as_deref())?;
+            let (roster, left_out) = ambit::library::Library::open(&folder)?.roster()?;
+            for name in left_out {
+                eprintln!("note: {name} has no range in the library yet; left out");
+            }
+            (roster, folder.display().to_string())
+        }
+    };
     let config = FitConfig::default();
     let mut per_score = Vec::new();
     for path in &arguments.scores {
@@ -64,7 +77,7 @@ pub fn run(arguments: FitArgs) -> anyhow::Result<()> {
             })
             .collect();
         let json = FitJson {
-            roster: arguments.roster.display().to_string(),
+            roster: source,
             records,
             cautions: cautions(),
         };

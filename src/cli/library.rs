@@ -10,15 +10,19 @@ use clap::{Args, Subcommand};
 use ambit::cautions::cautions;
 use ambit::demo::seed::seed_library;
 use ambit::library::{
-    AuditionInput, ImportPlan, Library, PieceInput, RecordingInput, ScenarioInput, SingerSource,
+    AuditionInput, ImportPlan, Library, RecordingInput, ScenarioInput, SingerSource,
     resolve_folder, today,
 };
 use ambit::pitch::nearest_name;
 use ambit::roster::roster_to_csv;
-use ambit::score::{ReadOptions, read_score};
-use ambit::sections::{Layout, MappingConfig, map_piece};
-use ambit::tessitura::{TessituraConfig, analyse_piece};
-use ambit::voice::{ProfileConfig, Task, load_recordings, profile};
+use ambit::sections::Layout;
+use ambit::usecases::audition::{measure_audition, store_audition};
+use ambit::usecases::pieces::{ImportOptions, MappingChoice, import_piece};
+use ambit::usecases::singers::{delete_singer, preview_delete};
+use ambit::usecases::{Cancel, Progress as _};
+use ambit::voice::{ProfileConfig, Task};
+
+use super::progress::Bar;
 
 #[derive(Debug, Args)]
 pub struct LibraryArgs {
@@ -40,20 +44,24 @@ pub enum LibraryCommand {
     },
     /// Where the library is and what it holds.
     Info {
+        /// Print JSON instead of text.
         #[arg(long)]
         json: bool,
     },
     /// Add or update singers from a roster CSV (or Ambit JSON): all or nothing.
     ImportRoster {
+        /// The roster file: CSV with a header row, or Ambit JSON.
         roster: PathBuf,
         /// Show what would be added, changed and skipped; change nothing.
         #[arg(long)]
         dry_run: bool,
+        /// Print JSON instead of text.
         #[arg(long)]
         json: bool,
     },
     /// Write the active singers' current ranges as a roster CSV (stdout without --out).
     ExportRoster {
+        /// Write to this file instead of standard output.
         #[arg(long, value_name = "FILE")]
         out: Option<PathBuf>,
     },
@@ -64,16 +72,22 @@ pub enum LibraryCommand {
         /// The day of the audition, YYYY-MM-DD (default: today).
         #[arg(long)]
         date: Option<String>,
+        /// Speech recording (reading or counting aloud).
         #[arg(long, value_name = "FILE")]
         speech: Vec<PathBuf>,
+        /// Glide (siren) recording, up and down.
         #[arg(long, value_name = "FILE")]
         glide: Vec<PathBuf>,
+        /// Five-note scales through the comfortable range.
         #[arg(long, value_name = "FILE")]
         scale: Vec<PathBuf>,
+        /// Lowest and highest secure notes, held.
         #[arg(long, value_name = "FILE")]
         sustain: Vec<PathBuf>,
+        /// A familiar phrase in the singer's own key.
         #[arg(long, value_name = "FILE")]
         song: Vec<PathBuf>,
+        /// Print JSON instead of text.
         #[arg(long)]
         json: bool,
     },
@@ -82,17 +96,21 @@ pub enum LibraryCommand {
         /// Include archived singers.
         #[arg(long)]
         all: bool,
+        /// Print JSON instead of text.
         #[arg(long)]
         json: bool,
     },
     /// A singer's measured profiles over time.
     History {
+        /// The singer's name, as stored.
         name: String,
+        /// Print JSON instead of text.
         #[arg(long)]
         json: bool,
     },
     /// Copy a score into the library with its part analysis.
     AddPiece {
+        /// The score file (MIDI, MusicXML, .mxl).
         score: PathBuf,
         /// Title (default: the score's title, else the file name).
         #[arg(long)]
@@ -106,34 +124,46 @@ pub enum LibraryCommand {
     },
     /// List pieces, or the pieces of one programme in order.
     Pieces {
+        /// The programme (by name).
         #[arg(long)]
         programme: Option<String>,
     },
     /// Save a placement scenario from `ambit place --json` output.
     SaveScenario {
+        /// The scenario's name.
         name: String,
         /// The placement JSON (from `ambit place … --json`).
         #[arg(long, value_name = "FILE")]
         result: PathBuf,
+        /// The programme the placement was made for (by name).
         #[arg(long)]
         programme: Option<String>,
         /// The constraints used, as JSON (sizes, locks, exclusions).
         #[arg(long, value_name = "FILE")]
         constraints: Option<PathBuf>,
+        /// A note to keep with the scenario.
         #[arg(long)]
         notes: Option<String>,
     },
     /// List saved placement scenarios, newest first.
     Scenarios {
+        /// Print JSON instead of text.
         #[arg(long)]
         json: bool,
     },
     /// Write the whole library (database, recordings, scores) to one zip file.
-    Backup { out: PathBuf },
+    Backup {
+        /// The zip file to write.
+        out: PathBuf,
+    },
     /// Replace the library with a backup, after checking every file's hash.
-    Restore { backup: PathBuf },
+    Restore {
+        /// The backup zip written by `ambit library backup`.
+        backup: PathBuf,
+    },
     /// Delete a singer: their rows and their recording files.
     DeleteSinger {
+        /// The singer's name, as stored.
         name: String,
         /// Confirm; without it the command only says what would go.
         #[arg(long)]
@@ -141,7 +171,9 @@ pub enum LibraryCommand {
     },
     /// Export one person's data (rows as JSON and recordings) into a new folder.
     ExportSinger {
+        /// The singer's name, as stored.
         name: String,
+        /// The new folder to export into (it must not exist yet).
         #[arg(long, value_name = "DIR")]
         out: PathBuf,
     },
@@ -191,9 +223,11 @@ pub fn run(arguments: LibraryArgs) -> anyhow::Result<()> {
                     );
                 }
                 let staging = folder.join("demo-staging");
+                let bar = Bar::new();
                 let seeded = seed_library(&mut library, &staging, &mut |done, total, label| {
-                    eprintln!("  [{done}/{total}] {label}");
+                    bar.step(done, total, label)
                 })?;
+                drop(bar);
                 println!(
                     "stored {} demo auditions and {} sample scores as the programme \"{}\"",
                     seeded.auditions, seeded.pieces, seeded.programme
@@ -281,21 +315,25 @@ pub fn run(arguments: LibraryArgs) -> anyhow::Result<()> {
                     "give at least one recording: --speech, --glide, --scale, --sustain or --song FILE"
                 );
             }
-            let tasks: Vec<(Task, &Path)> = recordings
-                .iter()
-                .map(|recording| (recording.task, recording.path.as_path()))
-                .collect();
-            let loaded = load_recordings(&tasks)
-                .into_iter()
-                .collect::<Result<Vec<_>, _>>()?;
-            let measured = profile(&loaded, &ProfileConfig::default())?;
+            let measured = measure_audition(
+                &recordings,
+                &ProfileConfig::default(),
+                &Bar::new(),
+                &Cancel::new(),
+            )?;
             let input = AuditionInput {
                 singer: name.clone(),
                 held_on,
                 recordings,
                 profile: measured,
             };
-            let id = library.add_audition(&input)?;
+            let id = store_audition(
+                &mut library,
+                &input.singer,
+                &input.held_on,
+                input.recordings.clone(),
+                input.profile.clone(),
+            )?;
             if json {
                 println!(
                     "{}",
@@ -412,35 +450,26 @@ pub fn run(arguments: LibraryArgs) -> anyhow::Result<()> {
             layout,
         } => {
             let mut library = open(&folder)?;
-            let piece = read_score(&score, &ReadOptions::default())?;
-            let analysis = analyse_piece(&piece, &TessituraConfig::default());
             let mapping = match layout {
                 Some(layout) => {
-                    let layout = Layout::parse(&layout).context("--layout")?;
-                    Some(serde_json::to_value(map_piece(
-                        &piece,
-                        0,
-                        &layout,
-                        &MappingConfig::default(),
-                    )?)?)
+                    Layout::parse(&layout).context("--layout")?;
+                    Some(MappingChoice {
+                        layout: Some(layout),
+                        overrides: Default::default(),
+                    })
                 }
                 None => None,
             };
-            let title = title
-                .or_else(|| piece.title.clone())
-                .or_else(|| {
-                    score
-                        .file_stem()
-                        .map(|stem| stem.to_string_lossy().into_owned())
-                })
-                .unwrap_or_else(|| "untitled".into());
-            let input = PieceInput {
-                title: title.clone(),
-                score,
-                analysis: serde_json::to_value(&analysis)?,
+            let options = ImportOptions {
+                title,
+                programme: programme.clone(),
                 mapping,
             };
-            let id = library.add_piece(&input, programme.as_deref())?;
+            let imported = import_piece(&mut library, &score, &options, &Bar::new())?;
+            if let Some(error) = &imported.view.mapping_error {
+                eprintln!("warning: {}: {error}", score.display());
+            }
+            let (id, title) = (imported.id, imported.title);
             match programme {
                 Some(programme) => {
                     println!("stored piece {id} \"{title}\" in programme \"{programme}\"")
@@ -532,20 +561,20 @@ pub fn run(arguments: LibraryArgs) -> anyhow::Result<()> {
         }
         LibraryCommand::DeleteSinger { name, yes } => {
             let mut library = open(&folder)?;
-            let id = library.singer_id(&name)?;
             if !yes {
-                let auditions = library
-                    .singers(true)?
-                    .into_iter()
-                    .find(|singer| singer.id == id)
-                    .map_or(0, |singer| singer.auditions);
+                let preview = preview_delete(&library, &name)?;
                 println!(
-                    "would delete {name}: their details, typed-in ranges, {auditions} auditions and the recordings no one else shares; add --yes to delete"
+                    "would delete {}: their details, typed-in ranges, {} auditions and the recordings no one else shares; add --yes to delete",
+                    preview.name, preview.auditions
                 );
                 return Ok(());
             }
-            let removed = library.delete_singer(&name)?;
-            println!("deleted {name} and {removed} recording files");
+            let deleted = delete_singer(&mut library, &name)?;
+            println!(
+                "deleted {} and {} recording files",
+                deleted.name,
+                deleted.recording_files.unwrap_or(0)
+            );
         }
         LibraryCommand::ExportSinger { name, out } => {
             if out.exists() {

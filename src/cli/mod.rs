@@ -7,6 +7,7 @@ mod library;
 mod parts;
 mod place;
 mod profile;
+mod progress;
 mod track;
 mod transpose;
 
@@ -64,5 +65,39 @@ pub(crate) fn write_stdout(text: &str) -> anyhow::Result<()> {
     {
         Err(error) if error.kind() == std::io::ErrorKind::BrokenPipe => Ok(()),
         result => Ok(result?),
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use clap::CommandFactory as _;
+
+    /// Every option and argument of every subcommand says what it is for
+    /// in `--help` (positional ones included).
+    #[test]
+    fn every_option_has_a_help_text() {
+        fn missing(command: &clap::Command, path: &str, out: &mut Vec<String>) {
+            for argument in command.get_arguments() {
+                let id = argument.get_id().as_str();
+                if matches!(id, "help" | "version") {
+                    continue;
+                }
+                if argument.get_help().is_none() && argument.get_long_help().is_none() {
+                    out.push(format!("{path} {id}"));
+                }
+            }
+            for sub in command.get_subcommands() {
+                if sub.get_name() == "help" {
+                    continue;
+                }
+                if sub.get_about().is_none() {
+                    out.push(format!("{path} {} (the subcommand)", sub.get_name()));
+                }
+                missing(sub, &format!("{path} {}", sub.get_name()), out);
+            }
+        }
+        let mut out = Vec::new();
+        missing(&super::Cli::command(), "ambit", &mut out);
+        assert!(out.is_empty(), "options without a help text: {out:#?}");
     }
 }

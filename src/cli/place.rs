@@ -25,9 +25,11 @@ use ambit::sections::Layout;
 #[derive(Debug, Args)]
 pub struct PlaceArgs {
     /// The roster: CSV (name, range_low, range_high, comfort_low, comfort_high, …) or Ambit JSON.
-    #[arg(long, required_unless_present = "programme")]
+    /// Without it, the library's active singers are the roster.
+    #[arg(long, required_unless_present_any = ["programme", "library"])]
     pub roster: Option<PathBuf>,
-    /// The choir library to take the roster (and, with --programme, the scores) from.
+    /// The choir library to take the roster (and, with --programme, the scores) from
+    /// (default: AMBIT_LIBRARY, else the OS data directory).
     #[arg(long, value_name = "PATH")]
     pub library: Option<PathBuf>,
     /// A programme stored in the library: its pieces, in order, are the scores.

@@ -5,8 +5,13 @@ use std::path::PathBuf;
 use anyhow::bail;
 use clap::Args;
 
+use ambit::library::RecordingInput;
 use ambit::pitch::nearest_name;
-use ambit::voice::{PassaggioKind, PassaggioSource, ProfileConfig, Task, load_recordings, profile};
+use ambit::usecases::Cancel;
+use ambit::usecases::audition::measure_audition;
+use ambit::voice::{PassaggioKind, PassaggioSource, ProfileConfig, Task};
+
+use super::progress::Bar;
 
 #[derive(Debug, Args)]
 pub struct ProfileArgs {
@@ -34,7 +39,7 @@ pub struct ProfileArgs {
 }
 
 pub fn run(arguments: ProfileArgs) -> anyhow::Result<()> {
-    let mut tasks: Vec<(Task, &std::path::Path)> = Vec::new();
+    let mut recordings: Vec<RecordingInput> = Vec::new();
     for (task, files) in [
         (Task::Speech, &arguments.speech),
         (Task::Glide, &arguments.glide),
@@ -42,15 +47,20 @@ pub fn run(arguments: ProfileArgs) -> anyhow::Result<()> {
         (Task::Sustain, &arguments.sustain),
         (Task::Song, &arguments.song),
     ] {
-        tasks.extend(files.iter().map(|file| (task, file.as_path())));
+        recordings.extend(files.iter().map(|file| RecordingInput {
+            task,
+            path: file.clone(),
+        }));
     }
-    if tasks.is_empty() {
+    if recordings.is_empty() {
         bail!("give at least one recording: --speech, --glide, --scale, --sustain or --song FILE");
     }
-    let recordings = load_recordings(&tasks)
-        .into_iter()
-        .collect::<Result<Vec<_>, _>>()?;
-    let result = profile(&recordings, &ProfileConfig::default())?;
+    let result = measure_audition(
+        &recordings,
+        &ProfileConfig::default(),
+        &Bar::new(),
+        &Cancel::new(),
+    )?;
     if arguments.json {
         println!("{}", serde_json::to_string_pretty(&result)?);
         return Ok(());

@@ -180,11 +180,32 @@ fn roster_row(singer: &MeasuredSinger) -> Singer {
 
 /// Runs the whole demo (see the module docs).
 pub fn run_demo(config: &DemoConfig) -> Result<DemoResult, DemoError> {
+    run_demo_with_progress(config, &crate::usecases::Quiet)
+}
+
+/// [`run_demo`], reporting each singer as they are measured and then the
+/// programme plan.
+pub fn run_demo_with_progress(
+    config: &DemoConfig,
+    progress: &dyn crate::usecases::Progress,
+) -> Result<DemoResult, DemoError> {
+    use std::sync::atomic::{AtomicUsize, Ordering};
     let layout = Layout::parse(&config.layout)?;
+    let total = DEMO_CHOIR.len() + 1;
+    let measured = AtomicUsize::new(0);
     let singers = DEMO_CHOIR
         .par_iter()
         .enumerate()
-        .map(|(index, singer)| measure(index, singer, config))
+        .map(|(index, singer)| {
+            let result = measure(index, singer, config);
+            let done = measured.fetch_add(1, Ordering::Relaxed) + 1;
+            progress.step(
+                done,
+                total,
+                &format!("Measured the audition of {}", singer.name),
+            );
+            result
+        })
         .collect::<Result<Vec<_>, _>>()?;
     let roster = Roster {
         singers: singers.iter().map(roster_row).collect(),
@@ -205,6 +226,7 @@ pub fn run_demo(config: &DemoConfig) -> Result<DemoResult, DemoError> {
         &constraints,
         &config.programme,
     )?;
+    progress.step(total, total, "Planned the programme");
     Ok(DemoResult {
         choir: CHOIR_NAME.to_string(),
         singers,

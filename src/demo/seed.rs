@@ -11,13 +11,13 @@ use std::path::{Path, PathBuf};
 use rayon::prelude::*;
 
 use super::{DEMO_CHOIR, DemoSinger, synthesise_task, task_seed};
-use crate::library::{AuditionInput, Library, LibraryError, PieceInput, RecordingInput};
+use crate::library::{AuditionInput, Library, LibraryError, RecordingInput};
 use crate::roster::{Roster, Singer};
-use crate::score::{ReadOptions, read_score};
-use crate::sections::{Layout, MappingConfig, map_piece};
 use crate::synth::write_wav;
-use crate::tessitura::{TessituraConfig, analyse_piece};
-use crate::voice::{ProfileConfig, Task, load_recordings, profile};
+use crate::usecases::audition::measure_audition;
+use crate::usecases::pieces::{ImportOptions, MappingChoice, import_piece};
+use crate::usecases::{Cancel, Quiet};
+use crate::voice::{ProfileConfig, Task};
 
 /// The programme the sample scores form in the demo library.
 pub const DEMO_PROGRAMME: &str = "Harbour Lights";
@@ -254,40 +254,22 @@ fn seed_into(
     }
     progress(done, total, "Stored the demo choir");
 
-    let layout = Layout::parse(DEMO_LAYOUT).map_err(|error| LibraryError::Invalid {
-        file: staging.to_path_buf(),
-        message: error.to_string(),
-    })?;
-    for (index, path) in write_sample_scores(&staging.join("scores"))?
-        .into_iter()
-        .enumerate()
-    {
-        let invalid = |message: String| LibraryError::Invalid {
-            file: path.clone(),
-            message,
-        };
-        let piece =
-            read_score(&path, &ReadOptions::default()).map_err(|e| invalid(e.to_string()))?;
-        let analysis = analyse_piece(&piece, &TessituraConfig::default());
-        let mapping = map_piece(&piece, index, &layout, &MappingConfig::default())
-            .map_err(|e| invalid(e.to_string()))?;
-        let title = piece.title.clone().unwrap_or_else(|| {
-            path.file_stem()
-                .map(|stem| stem.to_string_lossy().into_owned())
-                .unwrap_or_else(|| format!("piece {}", index + 1))
-        });
-        let to_json = |value: serde_json::Result<serde_json::Value>| {
-            value.map_err(|error| invalid(error.to_string()))
-        };
-        library.add_piece(
-            &PieceInput {
-                title: title.clone(),
-                score: path.clone(),
-                analysis: to_json(serde_json::to_value(&analysis))?,
-                mapping: Some(to_json(serde_json::to_value(&mapping))?),
-            },
-            Some(DEMO_PROGRAMME),
-        )?;
+    let options = ImportOptions {
+        title: None,
+        programme: Some(DEMO_PROGRAMME.to_string()),
+        mapping: Some(MappingChoice {
+            layout: Some(DEMO_LAYOUT.to_string()),
+            overrides: Default::default(),
+        }),
+    };
+    for path in write_sample_scores(&staging.join("scores"))? {
+        let imported = import_piece(library, &path, &options, &Quiet).map_err(|error| {
+            LibraryError::Invalid {
+                file: path.clone(),
+                message: error.to_string(),
+            }
+        })?;
+        let title = imported.title;
         done += 1;
         progress(done, total, &format!("Analysed {title}"));
     }
@@ -310,20 +292,17 @@ fn measure_choir(
         .map(|(index, singer)| {
             let folder = staging.join("auditions").join(singer_slug(singer.name));
             let recordings = write_audition_files(singer, audition_seed(index), &folder)?;
-            let tasks: Vec<(Task, &Path)> = recordings
-                .iter()
-                .map(|recording| (recording.task, recording.path.as_path()))
-                .collect();
             let invalid = |message: String| LibraryError::Invalid {
                 file: folder.clone(),
                 message,
             };
-            let loaded = load_recordings(&tasks)
-                .into_iter()
-                .collect::<Result<Vec<_>, _>>()
-                .map_err(|error| invalid(error.to_string()))?;
-            let measured = profile(&loaded, &ProfileConfig::default())
-                .map_err(|error| invalid(error.to_string()))?;
+            let measured = measure_audition(
+                &recordings,
+                &ProfileConfig::default(),
+                &Quiet,
+                &Cancel::new(),
+            )
+            .map_err(|error| invalid(error.to_string()))?;
             let _ = measured_one.send(singer.name);
             Ok(AuditionInput {
                 singer: singer.name.to_string(),
