@@ -4,6 +4,7 @@ use std::path::PathBuf;
 
 use ambit::pitch::{Tuning, midi_name_in_key};
 use ambit::score::{PartKind, ReadOptions, read_score};
+use ambit::usecases::Progress as _;
 use ambit::tessitura::{HotSpotKind, PartTessitura, TessituraConfig, analyse_piece};
 use ambit::views::{ScoreJson, score_view};
 use anyhow::Context;
@@ -34,15 +35,21 @@ pub fn run(arguments: PartsArgs) -> anyhow::Result<()> {
         unroll_repeats: !arguments.no_repeats,
     };
     let mut reports = Vec::new();
-    for path in &arguments.scores {
+    let bar = super::progress::Bar::new();
+    let total = arguments.scores.len();
+    for (index, path) in arguments.scores.iter().enumerate() {
+        if total > 1 {
+            bar.step(index, total, &format!("Reading {}", path.display()));
+        }
         let piece = read_score(path, &options)?;
         let parts = analyse_piece(&piece, &config);
         let fifths = piece.key.map_or(0, |key| key.fifths);
         reports.push(score_view(&path.display().to_string(), &piece, &parts));
         if !arguments.json {
-            print_table(&reports[reports.len() - 1], &parts, fifths);
+            bar.suspend(|| print_table(&reports[reports.len() - 1], &parts, fifths));
         }
     }
+    drop(bar);
     if arguments.json {
         let text = if reports.len() == 1 {
             serde_json::to_string_pretty(&reports[0])?

@@ -31,6 +31,14 @@ impl Bar {
     }
 }
 
+impl Bar {
+    /// Runs `print` with the bar hidden, so lines printed meanwhile are not
+    /// drawn over.
+    pub fn suspend<T>(&self, print: impl FnOnce() -> T) -> T {
+        self.bar.suspend(print)
+    }
+}
+
 impl Progress for Bar {
     fn step(&self, done: usize, total: usize, label: &str) {
         self.bar.set_length(total as u64);
