@@ -75,6 +75,12 @@ impl<R: Runtime> JobContext<R> {
     pub fn app(&self) -> &AppHandle<R> {
         &self.app
     }
+
+    /// The engine's cancel token over this job's flag, for use cases that
+    /// check it between their own steps.
+    pub fn cancel_token(&self) -> ambit::usecases::Cancel {
+        ambit::usecases::Cancel::from_flag(self.cancel.clone())
+    }
 }
 
 impl Jobs {

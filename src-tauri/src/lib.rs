@@ -50,6 +50,8 @@ pub fn with_commands<R: Runtime>(builder: tauri::Builder<R>, state: AppState) ->
             commands::planning::fit_matrix,
             commands::planning::place_solve,
             commands::planning::place_move,
+            commands::planning::place_undo,
+            commands::planning::place_redo,
             commands::planning::seating_export,
             commands::planning::scenario_save,
             commands::planning::scenarios_list,

@@ -7,7 +7,6 @@ use std::sync::Mutex;
 
 use ambit::demo::seed::create_demo_library;
 use ambit::library::{LIBRARY_ENV, Library, LibraryError};
-use ambit::placement::{Placement, PlacementProblem};
 use ambit::voice::Profile;
 use serde::{Deserialize, Serialize};
 use tauri::{AppHandle, Emitter, Manager, Runtime};
@@ -15,16 +14,6 @@ use tauri::{AppHandle, Emitter, Manager, Runtime};
 use crate::commands::audition::AuditionFile;
 use crate::jobs::Jobs;
 use crate::recorder::Recording;
-
-/// The placement the director is working on: the problem as posed and the
-/// current seating (the optimum, then each move applied).
-pub struct CurrentPlacement {
-    pub problem: PlacementProblem,
-    pub placement: Placement,
-    pub matrix: ambit::fit::SectionFitMatrix,
-    /// The roster placed, for the divisi choices after a move.
-    pub roster: ambit::roster::Roster,
-}
 
 #[derive(Default)]
 pub struct AppState {
@@ -34,7 +23,7 @@ pub struct AppState {
     status: Mutex<LibraryStatus>,
     pub jobs: Jobs,
     pub recording: Mutex<Option<Recording>>,
-    pub placement: Mutex<Option<CurrentPlacement>>,
+    pub placement: Mutex<Option<ambit::usecases::placement::PlacementSession>>,
     /// The last profile measured, with the files it came from, so that
     /// saving an audition does not measure it twice.
     pub last_profile: Mutex<Option<(String, Vec<AuditionFile>, Profile)>>,

@@ -871,3 +871,135 @@ fn the_seating_list_is_written_as_csv_with_the_moves_made() {
         .expect_err("no such folder");
     assert!(error.contains("no-such-folder"), "{error}");
 }
+
+#[test]
+fn undo_takes_a_move_back_and_redo_makes_it_again() {
+    let app = app(true);
+    let score = repository().join("sample-scores/the-tide-clock.musicxml");
+    app.ok("piece_import", json!({ "path": score }));
+    let done = app.job("place_solve", json!({ "pieces": [], "layout": "SATB" }));
+    assert!(done["error"].is_null(), "{done}");
+    let optimum = done["result"].clone();
+    assert_eq!(optimum["canUndo"], false);
+    assert!(
+        app.ok("place_undo", json!({})).is_null(),
+        "nothing to undo yet"
+    );
+    let first = &optimum["assignments"][0];
+    let name = first["singer"].as_str().expect("a name");
+    let to = if first["section"] == "S" { "A" } else { "S" };
+    let moved = app.ok("place_move", json!({ "name": name, "section": to }));
+    assert_eq!(moved["placement"]["canUndo"], true);
+    let undone = app.ok("place_undo", json!({}));
+    // Undo gives back the optimum exactly: the same seats and the same total.
+    assert_eq!(undone["assignments"], optimum["assignments"]);
+    assert_eq!(undone["objective"], optimum["objective"]);
+    assert_eq!(undone["canRedo"], true);
+    let redone = app.ok("place_redo", json!({}));
+    assert_eq!(redone["assignments"], moved["placement"]["assignments"]);
+    assert!(
+        app.ok("place_redo", json!({})).is_null(),
+        "nothing more to redo"
+    );
+}
+
+/// The app path of the one-engine check (the CLI, library and demo paths
+/// are in the root package's `tests/one_engine.rs`): four demo auditions
+/// analysed and saved through the app's commands must give the section
+/// fits and the placement that the engine gives for the same recordings
+/// converted once (`roster::singer_from_profile`, as `ambit profile
+/// --roster-row` does).
+#[test]
+fn auditions_saved_in_the_app_place_as_the_engine_places_the_same_recordings() {
+    use ambit::demo::seed::{audition_seed, write_audition_files};
+    use ambit::demo::{DEMO_CHOIR, DemoSinger};
+    use ambit::usecases::audition::measure_audition;
+    use ambit::usecases::{Cancel, Quiet};
+    use ambit::voice::ProfileConfig;
+    use ambit::voice::types::VoiceType;
+
+    let app = app(false);
+    let scratch = tempfile::tempdir().expect("scratch");
+    let score = repository().join("sample-scores/the-tide-clock.mxl");
+    app.ok("piece_import", json!({ "path": score }));
+    let mut roster = ambit::roster::Roster {
+        singers: Vec::new(),
+    };
+    for wanted in [
+        VoiceType::Soprano,
+        VoiceType::MezzoSoprano,
+        VoiceType::Tenor,
+        VoiceType::Bass,
+    ] {
+        let (index, singer): (usize, &DemoSinger) = DEMO_CHOIR
+            .iter()
+            .enumerate()
+            .find(|(_, singer)| singer.voice_type == wanted)
+            .expect("every type is in the demo choir");
+        let files = write_audition_files(
+            singer,
+            audition_seed(index),
+            &scratch.path().join(index.to_string()),
+        )
+        .expect("the audition is written");
+        let done = app.job(
+            "audition_analyse",
+            json!({ "singer": singer.name, "files": files }),
+        );
+        assert!(done["error"].is_null(), "{done}");
+        app.ok(
+            "audition_save",
+            json!({ "singer": singer.name, "files": files, "date": "2026-09-05" }),
+        );
+        let profile = measure_audition(&files, &ProfileConfig::default(), &Quiet, &Cancel::new())
+            .expect("the engine measures it");
+        roster
+            .singers
+            .push(ambit::roster::singer_from_profile(singer.name, &profile));
+    }
+    let piece = ambit::score::read_score(&score, &ambit::score::ReadOptions::default())
+        .expect("the sample score");
+    let layout = ambit::sections::Layout::parse("SATB").expect("a layout");
+    let engine = ambit::plan::place_programme(
+        &roster,
+        std::slice::from_ref(&piece),
+        &layout,
+        &ambit::plan::PlanConstraints::default(),
+        &ambit::plan::ProgrammeConfig::default(),
+    )
+    .expect("the engine places them");
+
+    let matrix = app.ok(
+        "fit_matrix",
+        json!({ "pieces": [], "layout": "SATB", "by": "section" }),
+    );
+    for (row, name) in engine.matrix.singers.iter().enumerate() {
+        let app_row = matrix["rows"]
+            .as_array()
+            .expect("rows")
+            .iter()
+            .position(|candidate| candidate == name)
+            .expect("the singer is in the app's matrix");
+        for (column, fit) in engine.matrix.fit[row].iter().enumerate() {
+            let cell = &matrix["cells"][app_row][column];
+            assert_eq!(
+                cell["fit"].as_f64(),
+                *fit,
+                "{name} / {}",
+                engine.matrix.sections[column]
+            );
+        }
+    }
+    let done = app.job("place_solve", json!({ "pieces": [], "layout": "SATB" }));
+    assert!(done["error"].is_null(), "{done}");
+    for assignment in &engine.placement.assignments {
+        let seated = done["result"]["assignments"]
+            .as_array()
+            .expect("assignments")
+            .iter()
+            .find(|candidate| candidate["singer"] == assignment.singer.as_str())
+            .expect("every singer is seated");
+        assert_eq!(seated["section"], assignment.section.as_str());
+        assert_eq!(seated["fit"].as_f64(), Some(assignment.fit));
+    }
+}

@@ -4,9 +4,10 @@
 
 use std::path::{Path, PathBuf};
 
-use ambit::cautions::cautions;
-use ambit::library::{AuditionInput, RecordingInput, today};
-use ambit::voice::{Profile, ProfileConfig, Task, load_recording, profile};
+use ambit::library::{RecordingInput, today};
+use ambit::usecases::audition::{measure_audition, store_audition};
+use ambit::usecases::{Cancel, Quiet};
+use ambit::voice::{Profile, ProfileConfig, Task};
 use serde::{Deserialize, Serialize};
 use tauri::{AppHandle, Runtime, State};
 
@@ -63,12 +64,8 @@ pub fn audition_tasks() -> Vec<TaskInfo> {
     tasks()
 }
 
-/// One recording given for a task.
-#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
-pub struct AuditionFile {
-    pub task: Task,
-    pub path: PathBuf,
-}
+/// One recording given for a task (the engine's type).
+pub type AuditionFile = RecordingInput;
 
 #[tauri::command]
 pub fn recording_start<R: Runtime>(
@@ -101,34 +98,6 @@ pub struct ProfileResult {
     pub profile: Profile,
 }
 
-/// Measures a profile from the files, reporting each file as a step.
-pub fn measure(
-    files: &[AuditionFile],
-    mut step: impl FnMut(usize, usize, &str) -> Result<(), String>,
-) -> Result<Profile, String> {
-    if files.is_empty() {
-        return Err("give at least one recording (speech, glide, scale, sustain or song)".into());
-    }
-    let mut recordings = Vec::with_capacity(files.len());
-    for (index, file) in files.iter().enumerate() {
-        step(index, files.len() + 1, &label(&file.path))?;
-        recordings.push(load_recording(file.task, &file.path).map_err(text)?);
-    }
-    step(files.len(), files.len() + 1, "profile")?;
-    let mut measured = profile(&recordings, &ProfileConfig::default()).map_err(text)?;
-    if measured.cautions.is_empty() {
-        measured.cautions = cautions();
-    }
-    Ok(measured)
-}
-
-fn label(path: &Path) -> String {
-    path.file_name().map_or_else(
-        || path.display().to_string(),
-        |name| name.to_string_lossy().into_owned(),
-    )
-}
-
 #[tauri::command]
 pub fn audition_analyse<R: Runtime>(
     app: AppHandle<R>,
@@ -137,11 +106,13 @@ pub fn audition_analyse<R: Runtime>(
     files: Vec<AuditionFile>,
 ) -> Result<u64, String> {
     state.jobs.spawn(&app, move |job| {
-        let measured = measure(&files, |done, total, label| {
-            job.check()?;
-            job.progress(done, total, label);
-            Ok(())
-        })?;
+        let measured = measure_audition(
+            &files,
+            &ProfileConfig::default(),
+            &|done: usize, total: usize, label: &str| job.progress(done, total, label),
+            &job.cancel_token(),
+        )
+        .map_err(text)?;
         job.check()?;
         if let Some(state) = tauri::Manager::try_state::<AppState>(job.app()) {
             *lock(&state.last_profile) = Some((singer.clone(), files.clone(), measured.clone()));
@@ -169,23 +140,15 @@ pub fn audition_save(
         .map(|(_, _, profile)| profile.clone());
     let measured = match cached {
         Some(profile) => profile,
-        None => measure(&files, |_, _, _| Ok(()))?,
+        None => measure_audition(&files, &ProfileConfig::default(), &Quiet, &Cancel::new())
+            .map_err(text)?,
     };
-    let input = AuditionInput {
-        singer: singer.clone(),
-        held_on: date
-            .filter(|date| !date.trim().is_empty())
-            .unwrap_or_else(today),
-        recordings: files
-            .iter()
-            .map(|file| RecordingInput {
-                task: file.task,
-                path: file.path.clone(),
-            })
-            .collect(),
-        profile: measured,
-    };
-    let id = state.with_library(|library| library.add_audition(&input))?;
+    let held_on = date
+        .filter(|date| !date.trim().is_empty())
+        .unwrap_or_else(today);
+    let id = state.using(|library| {
+        store_audition(library, &singer, &held_on, files.clone(), measured).map_err(text)
+    })?;
     // Takes recorded in the app are now stored by content; the take files go.
     for file in &files {
         if recorder::is_take(&file.path) {
