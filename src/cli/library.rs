@@ -18,6 +18,7 @@ use ambit::roster::roster_to_csv;
 use ambit::score::{ReadOptions, read_score};
 use ambit::sections::{Layout, MappingConfig, map_piece};
 use ambit::tessitura::{TessituraConfig, analyse_piece};
+use ambit::text::{column_width, pad_right};
 use ambit::voice::{ProfileConfig, Task, load_recordings, profile};
 
 #[derive(Debug, Args)]
@@ -153,20 +154,20 @@ fn open(folder: &Path) -> anyhow::Result<Library> {
 
 fn print_plan(plan: &ImportPlan, dry_run: bool) {
     let verb = if dry_run { "would be" } else { "were" };
-    println!(
+    say!(
         "{} added, {} changed, {} unchanged ({verb} applied)",
         plan.added.len(),
         plan.changed.len(),
         plan.skipped.len()
     );
     for name in &plan.added {
-        println!("  + {name}");
+        say!("  + {name}");
     }
     for change in &plan.changed {
-        println!("  ~ {}: {}", change.name, change.fields.join("; "));
+        say!("  ~ {}: {}", change.name, change.fields.join("; "));
     }
     for name in &plan.skipped {
-        println!("  = {name}");
+        say!("  = {name}");
     }
 }
 
@@ -175,7 +176,7 @@ pub fn run(arguments: LibraryArgs) -> anyhow::Result<()> {
     match arguments.command {
         LibraryCommand::Init { demo } => {
             let mut library = Library::create(&folder)?;
-            println!(
+            say!(
                 "library ready at {} (schema version {})",
                 folder.display(),
                 library.schema_version()?
@@ -192,38 +193,38 @@ pub fn run(arguments: LibraryArgs) -> anyhow::Result<()> {
                 }
                 let staging = folder.join("demo-staging");
                 let seeded = seed_library(&mut library, &staging, &mut |done, total, label| {
-                    eprintln!("  [{done}/{total}] {label}");
+                    say_err!("  [{done}/{total}] {label}");
                 })?;
-                println!(
+                say!(
                     "stored {} demo auditions and {} sample scores as the programme \"{}\"",
                     seeded.auditions, seeded.pieces, seeded.programme
                 );
                 for caution in cautions() {
-                    println!("note: {caution}");
+                    say!("note: {caution}");
                 }
             }
         }
         LibraryCommand::Info { json } => {
             let info = open(&folder)?.info()?;
             if json {
-                println!("{}", serde_json::to_string_pretty(&info)?);
+                say!("{}", serde_json::to_string_pretty(&info)?);
             } else {
-                println!("library      {}", info.folder);
-                println!("schema       version {}", info.schema_version);
-                println!(
+                say!("library      {}", info.folder);
+                say!("schema       version {}", info.schema_version);
+                say!(
                     "singers      {} active, {} archived",
                     info.singers, info.archived_singers
                 );
-                println!("auditions    {}", info.auditions);
-                println!(
+                say!("auditions    {}", info.auditions);
+                say!(
                     "recordings   {} files, {} bytes",
                     info.recordings, info.recording_bytes
                 );
-                println!(
+                say!(
                     "pieces       {} in {} programmes",
                     info.pieces, info.programmes
                 );
-                println!("scenarios    {}", info.scenarios);
+                say!("scenarios    {}", info.scenarios);
             }
         }
         LibraryCommand::ImportRoster {
@@ -234,7 +235,7 @@ pub fn run(arguments: LibraryArgs) -> anyhow::Result<()> {
             let mut library = open(&folder)?;
             let plan = library.import_roster_file(&roster, dry_run)?;
             if json {
-                println!("{}", serde_json::to_string_pretty(&plan)?);
+                say!("{}", serde_json::to_string_pretty(&plan)?);
             } else {
                 print_plan(&plan, dry_run);
             }
@@ -246,10 +247,10 @@ pub fn run(arguments: LibraryArgs) -> anyhow::Result<()> {
             match out {
                 Some(path) => std::fs::write(&path, text)
                     .with_context(|| format!("{}: cannot write", path.display()))?,
-                None => print!("{text}"),
+                None => say_part!("{text}"),
             }
             for name in left_out {
-                eprintln!(
+                say_err!(
                     "note: {name} has no range yet (no audition, nothing typed in); left out"
                 );
             }
@@ -297,7 +298,7 @@ pub fn run(arguments: LibraryArgs) -> anyhow::Result<()> {
             };
             let id = library.add_audition(&input)?;
             if json {
-                println!(
+                say!(
                     "{}",
                     serde_json::to_string_pretty(&serde_json::json!({
                         "audition_id": id,
@@ -308,40 +309,39 @@ pub fn run(arguments: LibraryArgs) -> anyhow::Result<()> {
                 );
             } else {
                 let measured = &input.profile;
-                println!("stored audition {id} of {name} on {}", input.held_on);
-                println!(
+                say!("stored audition {id} of {name} on {}", input.held_on);
+                say!(
                     "  range         {} – {}",
                     measured.range.low, measured.range.high
                 );
-                println!(
+                say!(
                     "  comfort zone  {} – {}",
                     measured.comfort.span.low, measured.comfort.span.high
                 );
-                println!(
+                say!(
                     "  voice type    {} ({:.0} %), section {}",
                     measured.voice_type.label,
                     measured.voice_type.confidence * 100.0,
                     measured.section
                 );
                 for caution in &measured.cautions {
-                    println!("note: {caution}");
+                    say!("note: {caution}");
                 }
             }
         }
         LibraryCommand::Singers { all, json } => {
             let singers = open(&folder)?.singers(all)?;
             if json {
-                println!("{}", serde_json::to_string_pretty(&singers)?);
+                say!("{}", serde_json::to_string_pretty(&singers)?);
             } else {
-                let width = singers
-                    .iter()
-                    .map(|s| s.name.chars().count())
-                    .max()
-                    .unwrap_or(4)
-                    .max(4);
-                println!(
-                    "{:<width$}  {:<7}  {:<9}  {:<9}  {:<9}  auditions",
-                    "name", "section", "range", "comfort", "from"
+                let width = column_width(singers.iter().map(|s| s.name.as_str()), 4);
+                say!(
+                    "{}  {:<7}  {:<9}  {:<9}  {:<9}  auditions",
+                    pad_right("name", width),
+                    "section",
+                    "range",
+                    "comfort",
+                    "from"
                 );
                 for singer in &singers {
                     let (range, comfort) = match &singer.current {
@@ -370,9 +370,14 @@ pub fn run(arguments: LibraryArgs) -> anyhow::Result<()> {
                         .or_else(|| singer.current.as_ref().and_then(|c| c.section.clone()))
                         .unwrap_or_else(|| "-".into());
                     let archived = if singer.archived { "  (archived)" } else { "" };
-                    println!(
-                        "{:<width$}  {:<7}  {:<9}  {:<9}  {:<9}  {}{archived}",
-                        singer.name, section, range, comfort, from, singer.auditions
+                    say!(
+                        "{}  {}  {:<9}  {:<9}  {:<9}  {}{archived}",
+                        pad_right(&singer.name, width),
+                        pad_right(&section, 7),
+                        range,
+                        comfort,
+                        from,
+                        singer.auditions
                     );
                 }
             }
@@ -380,17 +385,17 @@ pub fn run(arguments: LibraryArgs) -> anyhow::Result<()> {
         LibraryCommand::History { name, json } => {
             let history = open(&folder)?.history(&name)?;
             if json {
-                println!("{}", serde_json::to_string_pretty(&history)?);
+                say!("{}", serde_json::to_string_pretty(&history)?);
             } else if history.is_empty() {
-                println!("{name} has no auditions yet");
+                say!("{name} has no auditions yet");
             } else {
-                println!(
+                say!(
                     "{:<10}  {:<9}  {:<9}  {:<14}  section",
                     "date", "range", "comfort", "voice type"
                 );
                 for entry in &history {
                     let profile = &entry.profile;
-                    println!(
+                    say!(
                         "{:<10}  {:<9}  {:<9}  {:<14}  {}",
                         entry.held_on,
                         format!("{}–{}", profile.range.low, profile.range.high),
@@ -399,9 +404,9 @@ pub fn run(arguments: LibraryArgs) -> anyhow::Result<()> {
                         profile.section
                     );
                 }
-                println!();
+                say!();
                 for caution in cautions() {
-                    println!("note: {caution}");
+                    say!("note: {caution}");
                 }
             }
         }
@@ -443,9 +448,9 @@ pub fn run(arguments: LibraryArgs) -> anyhow::Result<()> {
             let id = library.add_piece(&input, programme.as_deref())?;
             match programme {
                 Some(programme) => {
-                    println!("stored piece {id} \"{title}\" in programme \"{programme}\"")
+                    say!("stored piece {id} \"{title}\" in programme \"{programme}\"")
                 }
-                None => println!("stored piece {id} \"{title}\""),
+                None => say!("stored piece {id} \"{title}\""),
             }
         }
         LibraryCommand::Pieces { programme } => {
@@ -455,7 +460,7 @@ pub fn run(arguments: LibraryArgs) -> anyhow::Result<()> {
                 None => library.pieces()?,
             };
             for piece in pieces {
-                println!(
+                say!(
                     "{:>4}  {}  ({})",
                     piece.id, piece.title, piece.original_name
                 );
@@ -489,15 +494,15 @@ pub fn run(arguments: LibraryArgs) -> anyhow::Result<()> {
                 result,
                 notes,
             })?;
-            println!("saved scenario {id} \"{name}\"");
+            say!("saved scenario {id} \"{name}\"");
         }
         LibraryCommand::Scenarios { json } => {
             let scenarios = open(&folder)?.scenarios()?;
             if json {
-                println!("{}", serde_json::to_string_pretty(&scenarios)?);
+                say!("{}", serde_json::to_string_pretty(&scenarios)?);
             } else {
                 for scenario in scenarios {
-                    println!(
+                    say!(
                         "{:>4}  {}  {}  programme {}  layout {}{}",
                         scenario.id,
                         scenario.saved_at,
@@ -514,7 +519,7 @@ pub fn run(arguments: LibraryArgs) -> anyhow::Result<()> {
         }
         LibraryCommand::Backup { out } => {
             let manifest = open(&folder)?.backup(&out)?;
-            println!(
+            say!(
                 "backed up {} files to {} (schema version {})",
                 manifest.entries.len(),
                 out.display(),
@@ -523,7 +528,7 @@ pub fn run(arguments: LibraryArgs) -> anyhow::Result<()> {
         }
         LibraryCommand::Restore { backup } => {
             let manifest = Library::restore(&backup, &folder)?;
-            println!(
+            say!(
                 "restored {} files from {} into {} (every hash checked)",
                 manifest.entries.len(),
                 backup.display(),
@@ -539,20 +544,20 @@ pub fn run(arguments: LibraryArgs) -> anyhow::Result<()> {
                     .into_iter()
                     .find(|singer| singer.id == id)
                     .map_or(0, |singer| singer.auditions);
-                println!(
+                say!(
                     "would delete {name}: their details, typed-in ranges, {auditions} auditions and the recordings no one else shares; add --yes to delete"
                 );
                 return Ok(());
             }
             let removed = library.delete_singer(&name)?;
-            println!("deleted {name} and {removed} recording files");
+            say!("deleted {name} and {removed} recording files");
         }
         LibraryCommand::ExportSinger { name, out } => {
             if out.exists() {
                 bail!("{}: already exists; give a new folder", out.display());
             }
             let export = open(&folder)?.export_person(&name, &out)?;
-            println!(
+            say!(
                 "exported {} ({} auditions) to {}",
                 export.singer.name,
                 export.auditions.len(),
