@@ -588,7 +588,11 @@ pub fn roster_to_csv(roster: &Roster) -> Result<String, csv::Error> {
             singer.section.clone().unwrap_or_default(),
             singer.notes.clone().unwrap_or_default(),
         ];
-        writer.write_record(cells.iter().map(|cell| crate::text::csv_cell(cell).into_owned()))?;
+        writer.write_record(
+            cells
+                .iter()
+                .map(|cell| crate::text::csv_cell(cell).into_owned()),
+        )?;
     }
     let bytes = writer
         .into_inner()

@@ -177,7 +177,16 @@ mod tests {
     fn numbers_names_and_pitches_are_left_alone() {
         // Pitch cells are note names in scientific pitch notation (C#4) or
         // MIDI numbers; fits are non-negative decimals.
-        for cell in ["-3", "-0.25", "+4", "63.50", "C#4", "Bb2", "Ilse Marwick", ""] {
+        for cell in [
+            "-3",
+            "-0.25",
+            "+4",
+            "63.50",
+            "C#4",
+            "Bb2",
+            "Ilse Marwick",
+            "",
+        ] {
             assert_eq!(csv_cell(cell), cell);
             assert_eq!(csv_cell_read(cell), cell);
         }

@@ -78,9 +78,7 @@ pub fn run(arguments: FitArgs) -> anyhow::Result<()> {
         print_table(records);
         say!();
     }
-    say!(
-        "Fit is 0–100 (higher is better); outside = share of sung time outside the comfort zone."
-    );
+    say!("Fit is 0–100 (higher is better); outside = share of sung time outside the comfort zone.");
     for caution in cautions() {
         say!("• {caution}");
     }

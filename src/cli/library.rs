@@ -148,8 +148,17 @@ pub enum LibraryCommand {
     },
 }
 
-fn open(folder: &Path) -> anyhow::Result<Library> {
-    Ok(Library::open(folder)?)
+/// Opens the library; a read-only one (damaged, or a folder this user
+/// cannot write) is said so on stderr, with the way out.
+pub(crate) fn open(folder: &Path) -> anyhow::Result<Library> {
+    let library = Library::open(folder)?;
+    if let Some(reason) = library.read_only_reason() {
+        say_err!(
+            "note: {}: opened read-only: {reason}",
+            library.database_path().display()
+        );
+    }
+    Ok(library)
 }
 
 fn print_plan(plan: &ImportPlan, dry_run: bool) {
@@ -197,7 +206,9 @@ pub fn run(arguments: LibraryArgs) -> anyhow::Result<()> {
                 })?;
                 say!(
                     "stored {} demo auditions and {} sample scores as the programme \"{}\"",
-                    seeded.auditions, seeded.pieces, seeded.programme
+                    seeded.auditions,
+                    seeded.pieces,
+                    seeded.programme
                 );
                 for caution in cautions() {
                     say!("note: {caution}");
@@ -213,16 +224,19 @@ pub fn run(arguments: LibraryArgs) -> anyhow::Result<()> {
                 say!("schema       version {}", info.schema_version);
                 say!(
                     "singers      {} active, {} archived",
-                    info.singers, info.archived_singers
+                    info.singers,
+                    info.archived_singers
                 );
                 say!("auditions    {}", info.auditions);
                 say!(
                     "recordings   {} files, {} bytes",
-                    info.recordings, info.recording_bytes
+                    info.recordings,
+                    info.recording_bytes
                 );
                 say!(
                     "pieces       {} in {} programmes",
-                    info.pieces, info.programmes
+                    info.pieces,
+                    info.programmes
                 );
                 say!("scenarios    {}", info.scenarios);
             }
@@ -250,9 +264,7 @@ pub fn run(arguments: LibraryArgs) -> anyhow::Result<()> {
                 None => say_part!("{text}"),
             }
             for name in left_out {
-                say_err!(
-                    "note: {name} has no range yet (no audition, nothing typed in); left out"
-                );
+                say_err!("note: {name} has no range yet (no audition, nothing typed in); left out");
             }
         }
         LibraryCommand::AddAudition {
@@ -312,11 +324,13 @@ pub fn run(arguments: LibraryArgs) -> anyhow::Result<()> {
                 say!("stored audition {id} of {name} on {}", input.held_on);
                 say!(
                     "  range         {} – {}",
-                    measured.range.low, measured.range.high
+                    measured.range.low,
+                    measured.range.high
                 );
                 say!(
                     "  comfort zone  {} – {}",
-                    measured.comfort.span.low, measured.comfort.span.high
+                    measured.comfort.span.low,
+                    measured.comfort.span.high
                 );
                 say!(
                     "  voice type    {} ({:.0} %), section {}",
@@ -391,7 +405,10 @@ pub fn run(arguments: LibraryArgs) -> anyhow::Result<()> {
             } else {
                 say!(
                     "{:<10}  {:<9}  {:<9}  {:<14}  section",
-                    "date", "range", "comfort", "voice type"
+                    "date",
+                    "range",
+                    "comfort",
+                    "voice type"
                 );
                 for entry in &history {
                     let profile = &entry.profile;
@@ -462,7 +479,9 @@ pub fn run(arguments: LibraryArgs) -> anyhow::Result<()> {
             for piece in pieces {
                 say!(
                     "{:>4}  {}  ({})",
-                    piece.id, piece.title, piece.original_name
+                    piece.id,
+                    piece.title,
+                    piece.original_name
                 );
             }
         }

@@ -18,10 +18,10 @@ use ambit::report::{ReportDocument, write_report};
 use ambit::views::place_view;
 
 use super::write_stdout;
-use ambit::text::{column_width, pad_right};
 use ambit::roster::read_roster;
 use ambit::score::{ReadOptions, read_score};
 use ambit::sections::Layout;
+use ambit::text::{column_width, pad_right};
 
 #[derive(Debug, Args)]
 pub struct PlaceArgs {
@@ -128,7 +128,7 @@ pub fn run(arguments: PlaceArgs) -> anyhow::Result<()> {
         || arguments.roster.is_none();
     let library = if uses_library {
         let folder = ambit::library::resolve_folder(arguments.library.as_deref())?;
-        Some(ambit::library::Library::open(&folder)?)
+        Some(super::library::open(&folder)?)
     } else {
         None
     };

@@ -56,6 +56,7 @@ pub fn run(arguments: ProfileArgs) -> anyhow::Result<()> {
         return Ok(());
     }
     if let Some(name) = &arguments.roster_row {
+        ambit::text::check_name("--roster-row NAME", name).map_err(anyhow::Error::msg)?;
         say_part!(
             "{}",
             ambit::roster::singer_to_csv_row(&ambit::roster::singer_from_profile(name, &result))?
@@ -74,7 +75,8 @@ pub fn run(arguments: ProfileArgs) -> anyhow::Result<()> {
     if let Some(reached) = &result.reached {
         say!(
             "Reached in glides    {} – {} (reached, not sustained)",
-            reached.low, reached.high
+            reached.low,
+            reached.high
         );
     }
     say!(
@@ -136,7 +138,8 @@ pub fn run(arguments: ProfileArgs) -> anyhow::Result<()> {
             .map_or_else(String::new, |alpha| format!(", alpha ratio {alpha:.1} dB"));
         say!(
             "Timbre               centroid {:.0} Hz, singer's formant {:.1} dB{tilt} (weak evidence, not used for the type)",
-            timbre.centroid_hz, timbre.singers_formant_db
+            timbre.centroid_hz,
+            timbre.singers_formant_db
         );
     }
     say!(
@@ -155,7 +158,8 @@ pub fn run(arguments: ProfileArgs) -> anyhow::Result<()> {
     }
     say!(
         "Section              {} (runner-up {})",
-        result.section, result.section_runner_up
+        result.section,
+        result.section_runner_up
     );
     say!("\nWhy:");
     for reason in &result.reasons {
