@@ -14,7 +14,7 @@ use std::path::{Path, PathBuf};
 use ambit::library::{BackupManifest, Library, LibraryError, PieceInput, sha256_bytes};
 use ambit::roster::{parse_roster, roster_to_csv};
 use common::run_ambit;
-use library_support::{audition, profile, recording};
+use library_support::{audition, file_names, profile, recording};
 
 const ROSTER: &str = "name,range_low,range_high,comfort_low,comfort_high,section\n\
 Maren Voss,F3,C6,A3,F5,S1\n\
@@ -102,26 +102,23 @@ fn rewrite_manifest(backup: &Path, out: &Path, change: impl Fn(&mut BackupManife
     write_zip(out, &entries);
 }
 
-fn names_in(folder: &Path) -> Vec<String> {
-    let mut names: Vec<String> = std::fs::read_dir(folder)
-        .map(|entries| {
-            entries
-                .flatten()
-                .map(|entry| entry.file_name().to_string_lossy().into_owned())
-                .collect()
-        })
-        .unwrap_or_default();
-    names.sort();
-    names
+/// A backup of the library of [`library_with_audition`], the library closed.
+fn backed_up(dir: &Path) -> PathBuf {
+    let (library, _) = library_with_audition(dir);
+    let backup = dir.join("backup.zip");
+    library.backup(&backup).unwrap();
+    backup
+}
+
+/// The folder of the library of [`library_with_audition`], closed.
+fn closed_library(dir: &Path) -> PathBuf {
+    library_with_audition(dir).0.folder().to_path_buf()
 }
 
 #[test]
 fn a_backup_whose_database_names_files_outside_the_library_is_refused() {
     let dir = tempfile::tempdir().unwrap();
-    let (library, _) = library_with_audition(dir.path());
-    let backup = dir.path().join("backup.zip");
-    library.backup(&backup).unwrap();
-    drop(library);
+    let backup = backed_up(dir.path());
 
     // Change the database inside the backup and re-hash the manifest: the
     // hashes then agree, so only the name check can stop it.
@@ -173,9 +170,7 @@ fn a_backup_whose_database_names_files_outside_the_library_is_refused() {
 #[test]
 fn no_command_reaches_outside_the_library_through_a_changed_database() {
     let dir = tempfile::tempdir().unwrap();
-    let (library, _) = library_with_audition(dir.path());
-    let folder = library.folder().to_path_buf();
-    drop(library);
+    let folder = closed_library(dir.path());
     let victim = dir.path().join("victim.txt");
     std::fs::write(&victim, "keep me").unwrap();
     let database = folder.join("library.sqlite");
@@ -201,6 +196,12 @@ fn no_command_reaches_outside_the_library_through_a_changed_database() {
         let error = library.backup(&zip).unwrap_err();
         assert!(matches!(error, LibraryError::StoredName { .. }), "{error}");
         assert!(!zip.exists());
+        // Its snapshot of the database is gone too.
+        assert!(
+            !file_names(&folder)
+                .iter()
+                .any(|name| name.starts_with(".backup-"))
+        );
 
         let error = library.delete_singer("Zephyrine Quillfeather").unwrap_err();
         assert!(error.to_string().contains(&hostile), "{error}");
@@ -258,9 +259,7 @@ fn a_deleted_singer_cannot_be_read_back_from_the_database_file() {
 #[test]
 fn leftovers_of_killed_runs_are_swept_at_the_next_open() {
     let dir = tempfile::tempdir().unwrap();
-    let (library, _) = library_with_audition(dir.path());
-    let folder = library.folder().to_path_buf();
-    drop(library);
+    let folder = closed_library(dir.path());
     // Process id 4,000,000,000 cannot exist (Linux pid_max is at most 2^22).
     let dead = 4_000_000_000u32;
     for name in [format!(".backup-{dead}-1"), format!(".restore-{dead}-2")] {
@@ -279,7 +278,7 @@ fn leftovers_of_killed_runs_are_swept_at_the_next_open() {
     std::fs::create_dir(folder.join(&live)).unwrap();
 
     drop(Library::open(&folder).unwrap());
-    let left: Vec<String> = names_in(&folder)
+    let left: Vec<String> = file_names(&folder)
         .into_iter()
         .filter(|name| name.starts_with('.'))
         .collect();
@@ -290,10 +289,7 @@ fn leftovers_of_killed_runs_are_swept_at_the_next_open() {
 #[test]
 fn an_oversize_or_inconsistent_restore_is_refused_before_anything_is_written() {
     let dir = tempfile::tempdir().unwrap();
-    let (library, _) = library_with_audition(dir.path());
-    let backup = dir.path().join("backup.zip");
-    library.backup(&backup).unwrap();
-    drop(library);
+    let backup = backed_up(dir.path());
 
     let huge = dir.path().join("huge.zip");
     rewrite_manifest(&backup, &huge, |manifest| {
@@ -320,7 +316,7 @@ fn an_oversize_or_inconsistent_restore_is_refused_before_anything_is_written() {
         assert!(error.to_string().contains(expected), "{error}");
         assert!(error.to_string().contains("nothing was written"), "{error}");
         // Nothing was unpacked: no staging folder, no database.
-        assert!(names_in(&target).is_empty(), "{:?}", names_in(&target));
+        assert!(file_names(&target).is_empty(), "{:?}", file_names(&target));
     }
 }
 
@@ -405,10 +401,8 @@ fn a_damaged_database_opens_read_only_with_the_way_out() {
 fn a_read_only_library_folder_can_be_read_and_backed_up() {
     use std::os::unix::fs::PermissionsExt;
     let dir = tempfile::tempdir().unwrap();
-    let (library, _) = library_with_audition(dir.path());
-    let folder = library.folder().to_path_buf();
-    drop(library);
-    let before = names_in(&folder);
+    let folder = closed_library(dir.path());
+    let before = file_names(&folder);
     std::fs::set_permissions(&folder, std::fs::Permissions::from_mode(0o500)).unwrap();
     // SAFETY: geteuid has no preconditions.
     let root = unsafe { libc::geteuid() } == 0;
@@ -436,7 +430,7 @@ fn a_read_only_library_folder_can_be_read_and_backed_up() {
     result.unwrap();
     assert!(matches!(refused, Err(LibraryError::ReadOnly { .. })));
     if !root {
-        assert_eq!(names_in(&folder), before);
+        assert_eq!(file_names(&folder), before);
     }
 }
 
@@ -464,7 +458,7 @@ fn an_interrupted_export_leaves_nothing_and_names_the_destination() {
         .export_person("Zephyrine Quillfeather", &out)
         .unwrap();
     assert!(out.join("person.json").is_file());
-    assert_eq!(names_in(&out.join("recordings")).len(), 1);
+    assert_eq!(file_names(&out.join("recordings")).len(), 1);
     assert!(!partial.exists());
     // An existing folder is never written into.
     assert!(
@@ -521,9 +515,7 @@ fn csv_cells_are_safe_in_a_spreadsheet_and_read_back_unchanged() {
 #[test]
 fn very_long_names_and_control_characters_never_crash_or_reach_the_terminal() {
     let dir = tempfile::tempdir().unwrap();
-    let (library, _) = library_with_audition(dir.path());
-    let folder = library.folder().to_path_buf();
-    drop(library);
+    let folder = closed_library(dir.path());
     // Stored before the name limit (or by another program): 70,000
     // characters, past the 65,535 a format width can hold, and an ESC.
     let long = "L".repeat(70_000);

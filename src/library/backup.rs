@@ -57,6 +57,13 @@ fn backup_error(file: &Path, message: impl Into<String>) -> LibraryError {
     }
 }
 
+fn missing_entry(backup: &Path, entry: &str) -> LibraryError {
+    backup_error(
+        backup,
+        format!("{entry}: listed in manifest.json but missing (truncated?)"),
+    )
+}
+
 /// Entry names are `library.sqlite`, `recordings/<name>` or `scores/<name>`
 /// with a plain file name: nothing can be written outside the library.
 fn safe_entry(path: &str) -> bool {
@@ -101,40 +108,15 @@ impl Library {
             return Err(self.db_error(error));
         }
         // The files to include are those the snapshot refers to.
-        let snapshot_files = {
+        let snapshot_files = (|| {
             let copy = rusqlite::Connection::open(&snapshot).map_err(|e| self.db_error(e))?;
             let version: i64 = copy
                 .query_row("PRAGMA user_version", [], |row| row.get(0))
                 .map_err(|e| self.db_error(e))?;
-            let mut files = Vec::new();
-            for (dir, table, sql) in [
-                (
-                    RECORDINGS_DIR,
-                    "recordings",
-                    "SELECT sha256, file_name FROM recordings ORDER BY file_name",
-                ),
-                (
-                    SCORES_DIR,
-                    "pieces",
-                    "SELECT DISTINCT sha256, file_name FROM pieces ORDER BY file_name",
-                ),
-            ] {
-                let mut statement = copy.prepare(sql).map_err(|e| self.db_error(e))?;
-                let rows = statement
-                    .query_map([], |row| {
-                        Ok((row.get::<_, String>(0)?, row.get::<_, String>(1)?))
-                    })
-                    .map_err(|e| self.db_error(e))?
-                    .collect::<Result<Vec<_>, _>>()
-                    .map_err(|e| self.db_error(e))?;
-                for (sha, name) in rows {
-                    // Nothing from outside the library goes into a backup.
-                    let path = self.stored_file(dir, table, &sha, &name)?;
-                    files.push((format!("{dir}/{name}"), path));
-                }
-            }
+            // Nothing from outside the library goes into a backup.
+            let files = self.stored_files(&copy)?;
             Ok::<_, LibraryError>((version, files))
-        };
+        })();
         let (schema_version, files) = match snapshot_files {
             Ok(found) => found,
             Err(error) => {
@@ -295,15 +277,7 @@ impl Library {
             let declared = archive
                 .by_name(&entry.path)
                 .map(|file| file.size())
-                .map_err(|_| {
-                    backup_error(
-                        backup,
-                        format!(
-                            "{}: listed in manifest.json but missing (truncated?)",
-                            entry.path
-                        ),
-                    )
-                })?;
+                .map_err(|_| missing_entry(backup, &entry.path))?;
             if declared != entry.bytes {
                 return Err(backup_error(
                     backup,
@@ -345,15 +319,9 @@ impl Library {
         staging: &Path,
     ) -> Result<(), LibraryError> {
         for entry in &manifest.entries {
-            let mut reader = archive.by_name(&entry.path).map_err(|_| {
-                backup_error(
-                    backup,
-                    format!(
-                        "{}: listed in manifest.json but missing (truncated?)",
-                        entry.path
-                    ),
-                )
-            })?;
+            let mut reader = archive
+                .by_name(&entry.path)
+                .map_err(|_| missing_entry(backup, &entry.path))?;
             let target = staging.join(&entry.path);
             if let Some(parent) = target.parent() {
                 create_private_dir(parent)?;

@@ -326,7 +326,8 @@ impl Library {
         // A WAL database needs its -shm index; in a folder we cannot write
         // and without one, the file is read as it is (`immutable`): its last
         // checkpoint holds every commit, as a clean close leaves it.
-        let immutable = !is_writable(folder) && !(wal_present("-wal") && wal_present("-shm"));
+        let wal_complete = wal_present("-wal") && wal_present("-shm");
+        let immutable = !(is_writable(folder) || wal_complete);
         let uri = format!(
             "file:{}?mode=ro{}",
             uri_path(&database),
@@ -419,15 +420,30 @@ impl Library {
 
     /// Checks every file name the database stores (see [`Library::stored_file`]).
     pub fn check_stored_names(&self) -> Result<(), LibraryError> {
+        self.stored_files(&self.conn).map(|_| ())
+    }
+
+    /// Every file the database behind `conn` (this library's, or a snapshot
+    /// of it) refers to, as (`dir/name`, path in this library), each name
+    /// checked with [`Library::stored_file`].
+    pub(crate) fn stored_files(
+        &self,
+        conn: &Connection,
+    ) -> Result<Vec<(String, PathBuf)>, LibraryError> {
+        let mut files = Vec::new();
         for (dir, table, sql) in [
             (
                 RECORDINGS_DIR,
                 "recordings",
-                "SELECT sha256, file_name FROM recordings",
+                "SELECT sha256, file_name FROM recordings ORDER BY file_name",
             ),
-            (SCORES_DIR, "pieces", "SELECT sha256, file_name FROM pieces"),
+            (
+                SCORES_DIR,
+                "pieces",
+                "SELECT DISTINCT sha256, file_name FROM pieces ORDER BY file_name",
+            ),
         ] {
-            let mut statement = self.conn.prepare(sql).map_err(|e| self.db_error(e))?;
+            let mut statement = conn.prepare(sql).map_err(|e| self.db_error(e))?;
             let rows = statement
                 .query_map([], |row| {
                     Ok((row.get::<_, String>(0)?, row.get::<_, String>(1)?))
@@ -436,10 +452,11 @@ impl Library {
                 .collect::<Result<Vec<_>, _>>()
                 .map_err(|e| self.db_error(e))?;
             for (sha, name) in rows {
-                self.stored_file(dir, table, &sha, &name)?;
+                let path = self.stored_file(dir, table, &sha, &name)?;
+                files.push((format!("{dir}/{name}"), path));
             }
         }
-        Ok(())
+        Ok(files)
     }
 
     /// Removes what a killed backup, restore or export left: `.backup-*` and
