@@ -703,46 +703,48 @@ impl Library {
                 ),
             });
         }
-        let sha = sha256_file(source)?;
         let extension = source
             .extension()
             .and_then(|ext| ext.to_str())
             .filter(|ext| ext.len() <= 8 && ext.chars().all(|c| c.is_ascii_alphanumeric()))
             .map(|ext| ext.to_ascii_lowercase());
+        let dir_path = self.folder.join(dir);
+        create_private_dir(&dir_path)?;
+        // Copied first, through a byte budget (the length reported for a
+        // pipe or a device is not trusted), then hashed: the name is the
+        // hash of exactly the bytes stored. The copy is private (0600),
+        // whatever the source's mode.
+        let temp = dir_path.join(format!(
+            ".incoming-{}-{}",
+            std::process::id(),
+            unique_suffix()
+        ));
+        let copied = (|| {
+            let mut from = std::fs::File::open(source).map_err(io(source))?;
+            let mut to = create_private_file(&temp)?;
+            let bytes = copy_bounded(&mut from, source, &mut to, &temp, MAX_FILE_BYTES)?;
+            to.sync_all().map_err(io(&temp))?;
+            Ok::<_, LibraryError>((sha256_file(&temp)?, bytes))
+        })();
+        let (sha, bytes) = match copied {
+            Ok(copied) => copied,
+            Err(error) => {
+                let _ = std::fs::remove_file(&temp);
+                return Err(error);
+            }
+        };
         let file_name = match extension {
             Some(ext) => format!("{sha}.{ext}"),
             None => sha.clone(),
         };
-        let dir_path = self.folder.join(dir);
-        create_private_dir(&dir_path)?;
         let target = dir_path.join(&file_name);
         if target.is_file() {
+            let _ = std::fs::remove_file(&temp);
             // Mark it fresh so a concurrent sweep keeps it until we commit.
             if let Ok(file) = std::fs::OpenOptions::new().append(true).open(&target) {
                 let _ = file.set_modified(SystemTime::now());
             }
             return Ok((sha, file_name, bytes));
-        }
-        let temp = dir_path.join(format!(".incoming-{}-{}", std::process::id(), file_name));
-        // Copied through a byte budget: the length reported for a pipe or a
-        // device is not trusted. The copy is private (0600), whatever the
-        // source's mode.
-        let copied = (|| {
-            let mut from = std::fs::File::open(source).map_err(io(source))?;
-            let mut to = create_private_file(&temp)?;
-            copy_bounded(&mut from, source, &mut to, &temp, MAX_FILE_BYTES)?;
-            to.sync_all().map_err(io(&temp))
-        })();
-        if let Err(error) = copied {
-            let _ = std::fs::remove_file(&temp);
-            return Err(error);
-        }
-        if sha256_file(&temp)? != sha {
-            let _ = std::fs::remove_file(&temp);
-            return Err(LibraryError::Invalid {
-                file: source.to_path_buf(),
-                message: "the file changed while it was being copied; try again".into(),
-            });
         }
         std::fs::rename(&temp, &target).map_err(io(&target))?;
         sync_dir(&dir_path);
