@@ -25,6 +25,7 @@ pub mod score;
 pub mod sections;
 pub mod synth;
 pub mod tessitura;
+pub mod text;
 pub mod track;
 pub mod transpose;
 pub mod usecases;

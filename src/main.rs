@@ -13,7 +13,10 @@ fn main() -> ExitCode {
     match cli::run(arguments) {
         Ok(()) => ExitCode::SUCCESS,
         Err(error) => {
-            eprintln!("ambit: {}", error_message(&error));
+            eprintln!(
+                "ambit: {}",
+                ambit::text::terminal_safe(&error_message(&error))
+            );
             ExitCode::FAILURE
         }
     }

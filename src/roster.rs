@@ -208,9 +208,8 @@ pub fn parse_roster_json(path: &Path, data: &[u8]) -> Result<Roster, RosterError
             index,
             name: singer.name.clone(),
         };
-        if singer.name.trim().is_empty() {
-            return Err(RosterError::at(path, place(), "the name is empty"));
-        }
+        crate::text::check_name("the name", &singer.name)
+            .map_err(|message| RosterError::at(path, place(), message))?;
         for (label, value) in [
             ("range_low_midi", Some(singer.range_low_midi)),
             ("range_high_midi", Some(singer.range_high_midi)),
@@ -251,7 +250,8 @@ pub fn parse_roster_csv(path: &Path, data: &[u8]) -> Result<Roster, RosterError>
         .has_headers(true)
         .flexible(true)
         .trim(csv::Trim::All)
-        .comment(Some(b'#'))
+        // No comment lines: a name may start with `#`, and a row is never
+        // dropped without a word.
         .from_reader(data);
     let csv_error = |error: csv::Error| {
         let line = error
@@ -345,9 +345,7 @@ pub fn parse_roster_csv(path: &Path, data: &[u8]) -> Result<Roster, RosterError>
             columns: &columns,
         };
         let name = row.text("name")?.unwrap_or_default();
-        if name.is_empty() {
-            return Err(row.error("name", "the name is empty"));
-        }
+        crate::text::check_name("the name", &name).map_err(|message| row.error("name", message))?;
         let singer = Singer {
             range_low_midi: row.required_pitch("range_low")?,
             range_high_midi: row.required_pitch("range_high")?,
@@ -483,7 +481,8 @@ impl Row<'_> {
                 ),
             )
         })?;
-        let text = text.trim();
+        // Undo the spreadsheet-safe quote our own writer adds (text::csv_cell).
+        let text = crate::text::csv_cell_read(text.trim());
         Ok((!text.is_empty()).then(|| text.to_string()))
     }
 
@@ -593,7 +592,7 @@ pub fn roster_to_csv(roster: &Roster) -> Result<String, csv::Error> {
     writer.write_record(&header)?;
     for singer in &roster.singers {
         let optional_pitch = |midi: Option<f64>| midi.map(format_roster_pitch).unwrap_or_default();
-        writer.write_record([
+        let cells = [
             singer.name.clone(),
             format_roster_pitch(singer.range_low_midi),
             format_roster_pitch(singer.range_high_midi),
@@ -604,7 +603,12 @@ pub fn roster_to_csv(roster: &Roster) -> Result<String, csv::Error> {
             singer.voice_type.clone().unwrap_or_default(),
             singer.section.clone().unwrap_or_default(),
             singer.notes.clone().unwrap_or_default(),
-        ])?;
+        ];
+        writer.write_record(
+            cells
+                .iter()
+                .map(|cell| crate::text::csv_cell(cell).into_owned()),
+        )?;
     }
     let bytes = writer
         .into_inner()

@@ -267,10 +267,11 @@ pub fn seating_to_csv(placement: &Placement, sections: &[String]) -> Result<Stri
     let mut writer = csv::Writer::from_writer(Vec::new());
     writer.write_record(["section", "singer", "fit"])?;
     for assignment in rows {
+        // Spreadsheet-safe cells (OWASP CSV injection), as in every CSV Ambit writes.
         writer.write_record([
-            assignment.section.as_str(),
-            assignment.singer.as_str(),
-            &format!("{:.1}", assignment.fit),
+            crate::text::csv_cell(&assignment.section).as_ref(),
+            crate::text::csv_cell(&assignment.singer).as_ref(),
+            crate::text::csv_cell(&format!("{:.1}", assignment.fit)).as_ref(),
         ])?;
     }
     let bytes = writer

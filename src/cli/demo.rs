@@ -25,7 +25,7 @@ pub fn run(arguments: DemoArgs) -> anyhow::Result<()> {
     let started = Instant::now();
     let auditions = arguments.out.join("auditions");
     if std::io::stderr().is_terminal() {
-        eprintln!(
+        say_err!(
             "Synthesising, tracking and profiling {} demo auditions…",
             ambit::demo::DEMO_CHOIR.len()
         );

@@ -11,6 +11,7 @@ use ambit::fit::{FitConfig, LineFitRecord, piece_fits};
 use ambit::pitch::name_with_cents;
 use ambit::roster::read_roster;
 use ambit::score::{ReadOptions, read_score};
+use ambit::text::{column_width, pad_right};
 
 #[derive(Debug, Args)]
 pub struct FitArgs {
@@ -49,7 +50,7 @@ pub fn run(arguments: FitArgs) -> anyhow::Result<()> {
             let folder = ambit::library::resolve_folder(library.as_deref())?;
             let (roster, left_out) = ambit::library::Library::open(&folder)?.roster()?;
             for name in left_out {
-                eprintln!("note: {name} has no range in the library yet; left out");
+                say_err!("note: {name} has no range in the library yet; left out");
             }
             (roster, folder.display().to_string())
         }
@@ -81,20 +82,18 @@ pub fn run(arguments: FitArgs) -> anyhow::Result<()> {
             records,
             cautions: cautions(),
         };
-        println!("{}", serde_json::to_string_pretty(&json)?);
+        say!("{}", serde_json::to_string_pretty(&json)?);
         return Ok(());
     }
     for (path, records) in &per_score {
         let title = records.first().map_or("", |record| record.piece.as_str());
-        println!("{title}  ({})", path.display());
+        say!("{title}  ({})", path.display());
         print_table(records);
-        println!();
+        say!();
     }
-    println!(
-        "Fit is 0–100 (higher is better); outside = share of sung time outside the comfort zone."
-    );
+    say!("Fit is 0–100 (higher is better); outside = share of sung time outside the comfort zone.");
     for caution in cautions() {
-        println!("• {caution}");
+        say!("• {caution}");
     }
     Ok(())
 }
@@ -191,19 +190,20 @@ pub fn print_rows(rows: &[Vec<String>]) {
     let columns = rows.iter().map(Vec::len).max().unwrap_or(0);
     let widths: Vec<usize> = (0..columns)
         .map(|column| {
-            rows.iter()
-                .filter_map(|row| row.get(column))
-                .map(|cell| cell.chars().count())
-                .max()
-                .unwrap_or(0)
+            column_width(
+                rows.iter()
+                    .filter_map(|row| row.get(column))
+                    .map(String::as_str),
+                0,
+            )
         })
         .collect();
     for row in rows {
         let line: Vec<String> = row
             .iter()
             .zip(&widths)
-            .map(|(cell, width)| format!("{cell:<width$}"))
+            .map(|(cell, &width)| pad_right(cell, width))
             .collect();
-        println!("{}", line.join("  ").trim_end());
+        say!("{}", line.join("  ").trim_end());
     }
 }

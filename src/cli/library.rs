@@ -20,6 +20,7 @@ use ambit::usecases::audition::{measure_audition, store_audition};
 use ambit::usecases::pieces::{ImportOptions, MappingChoice, import_piece};
 use ambit::usecases::singers::{delete_singer, preview_delete};
 use ambit::usecases::{Cancel, Progress as _};
+use ambit::text::{column_width, pad_right};
 use ambit::voice::{ProfileConfig, Task};
 
 use super::progress::Bar;
@@ -179,26 +180,35 @@ pub enum LibraryCommand {
     },
 }
 
-fn open(folder: &Path) -> anyhow::Result<Library> {
-    Ok(Library::open(folder)?)
+/// Opens the library; a read-only one (damaged, or a folder this user
+/// cannot write) is said so on stderr, with the way out.
+pub(crate) fn open(folder: &Path) -> anyhow::Result<Library> {
+    let library = Library::open(folder)?;
+    if let Some(reason) = library.read_only_reason() {
+        say_err!(
+            "note: {}: opened read-only: {reason}",
+            library.database_path().display()
+        );
+    }
+    Ok(library)
 }
 
 fn print_plan(plan: &ImportPlan, dry_run: bool) {
     let verb = if dry_run { "would be" } else { "were" };
-    println!(
+    say!(
         "{} added, {} changed, {} unchanged ({verb} applied)",
         plan.added.len(),
         plan.changed.len(),
         plan.skipped.len()
     );
     for name in &plan.added {
-        println!("  + {name}");
+        say!("  + {name}");
     }
     for change in &plan.changed {
-        println!("  ~ {}: {}", change.name, change.fields.join("; "));
+        say!("  ~ {}: {}", change.name, change.fields.join("; "));
     }
     for name in &plan.skipped {
-        println!("  = {name}");
+        say!("  = {name}");
     }
 }
 
@@ -207,7 +217,7 @@ pub fn run(arguments: LibraryArgs) -> anyhow::Result<()> {
     match arguments.command {
         LibraryCommand::Init { demo } => {
             let mut library = Library::create(&folder)?;
-            println!(
+            say!(
                 "library ready at {} (schema version {})",
                 folder.display(),
                 library.schema_version()?
@@ -228,36 +238,41 @@ pub fn run(arguments: LibraryArgs) -> anyhow::Result<()> {
                     bar.step(done, total, label)
                 })?;
                 drop(bar);
-                println!(
+                say!(
                     "stored {} demo auditions and {} sample scores as the programme \"{}\"",
-                    seeded.auditions, seeded.pieces, seeded.programme
+                    seeded.auditions,
+                    seeded.pieces,
+                    seeded.programme
                 );
                 for caution in cautions() {
-                    println!("note: {caution}");
+                    say!("note: {caution}");
                 }
             }
         }
         LibraryCommand::Info { json } => {
             let info = open(&folder)?.info()?;
             if json {
-                println!("{}", serde_json::to_string_pretty(&info)?);
+                say!("{}", serde_json::to_string_pretty(&info)?);
             } else {
-                println!("library      {}", info.folder);
-                println!("schema       version {}", info.schema_version);
-                println!(
+                say!("library      {}", info.folder);
+                say!("schema       version {}", info.schema_version);
+                say!(
                     "singers      {} active, {} archived",
-                    info.singers, info.archived_singers
+                    info.singers,
+                    info.archived_singers
                 );
-                println!("auditions    {}", info.auditions);
-                println!(
+                say!("auditions    {}", info.auditions);
+                say!(
                     "recordings   {} files, {} bytes",
-                    info.recordings, info.recording_bytes
+                    info.recordings,
+                    info.recording_bytes
                 );
-                println!(
+                say!(
                     "pieces       {} in {} programmes",
-                    info.pieces, info.programmes
+                    info.pieces,
+                    info.programmes
                 );
-                println!("scenarios    {}", info.scenarios);
+                say!("scenarios    {}", info.scenarios);
             }
         }
         LibraryCommand::ImportRoster {
@@ -268,7 +283,7 @@ pub fn run(arguments: LibraryArgs) -> anyhow::Result<()> {
             let mut library = open(&folder)?;
             let plan = library.import_roster_file(&roster, dry_run)?;
             if json {
-                println!("{}", serde_json::to_string_pretty(&plan)?);
+                say!("{}", serde_json::to_string_pretty(&plan)?);
             } else {
                 print_plan(&plan, dry_run);
             }
@@ -280,12 +295,10 @@ pub fn run(arguments: LibraryArgs) -> anyhow::Result<()> {
             match out {
                 Some(path) => std::fs::write(&path, text)
                     .with_context(|| format!("{}: cannot write", path.display()))?,
-                None => print!("{text}"),
+                None => say_part!("{text}"),
             }
             for name in left_out {
-                eprintln!(
-                    "note: {name} has no range yet (no audition, nothing typed in); left out"
-                );
+                say_err!("note: {name} has no range yet (no audition, nothing typed in); left out");
             }
         }
         LibraryCommand::AddAudition {
@@ -335,7 +348,7 @@ pub fn run(arguments: LibraryArgs) -> anyhow::Result<()> {
                 input.profile.clone(),
             )?;
             if json {
-                println!(
+                say!(
                     "{}",
                     serde_json::to_string_pretty(&serde_json::json!({
                         "audition_id": id,
@@ -346,40 +359,41 @@ pub fn run(arguments: LibraryArgs) -> anyhow::Result<()> {
                 );
             } else {
                 let measured = &input.profile;
-                println!("stored audition {id} of {name} on {}", input.held_on);
-                println!(
+                say!("stored audition {id} of {name} on {}", input.held_on);
+                say!(
                     "  range         {} – {}",
-                    measured.range.low, measured.range.high
+                    measured.range.low,
+                    measured.range.high
                 );
-                println!(
+                say!(
                     "  comfort zone  {} – {}",
-                    measured.comfort.span.low, measured.comfort.span.high
+                    measured.comfort.span.low,
+                    measured.comfort.span.high
                 );
-                println!(
+                say!(
                     "  voice type    {} ({:.0} %), section {}",
                     measured.voice_type.label,
                     measured.voice_type.confidence * 100.0,
                     measured.section
                 );
                 for caution in &measured.cautions {
-                    println!("note: {caution}");
+                    say!("note: {caution}");
                 }
             }
         }
         LibraryCommand::Singers { all, json } => {
             let singers = open(&folder)?.singers(all)?;
             if json {
-                println!("{}", serde_json::to_string_pretty(&singers)?);
+                say!("{}", serde_json::to_string_pretty(&singers)?);
             } else {
-                let width = singers
-                    .iter()
-                    .map(|s| s.name.chars().count())
-                    .max()
-                    .unwrap_or(4)
-                    .max(4);
-                println!(
-                    "{:<width$}  {:<7}  {:<9}  {:<9}  {:<9}  auditions",
-                    "name", "section", "range", "comfort", "from"
+                let width = column_width(singers.iter().map(|s| s.name.as_str()), 4);
+                say!(
+                    "{}  {:<7}  {:<9}  {:<9}  {:<9}  auditions",
+                    pad_right("name", width),
+                    "section",
+                    "range",
+                    "comfort",
+                    "from"
                 );
                 for singer in &singers {
                     let (range, comfort) = match &singer.current {
@@ -408,9 +422,14 @@ pub fn run(arguments: LibraryArgs) -> anyhow::Result<()> {
                         .or_else(|| singer.current.as_ref().and_then(|c| c.section.clone()))
                         .unwrap_or_else(|| "-".into());
                     let archived = if singer.archived { "  (archived)" } else { "" };
-                    println!(
-                        "{:<width$}  {:<7}  {:<9}  {:<9}  {:<9}  {}{archived}",
-                        singer.name, section, range, comfort, from, singer.auditions
+                    say!(
+                        "{}  {}  {:<9}  {:<9}  {:<9}  {}{archived}",
+                        pad_right(&singer.name, width),
+                        pad_right(&section, 7),
+                        range,
+                        comfort,
+                        from,
+                        singer.auditions
                     );
                 }
             }
@@ -418,17 +437,20 @@ pub fn run(arguments: LibraryArgs) -> anyhow::Result<()> {
         LibraryCommand::History { name, json } => {
             let history = open(&folder)?.history(&name)?;
             if json {
-                println!("{}", serde_json::to_string_pretty(&history)?);
+                say!("{}", serde_json::to_string_pretty(&history)?);
             } else if history.is_empty() {
-                println!("{name} has no auditions yet");
+                say!("{name} has no auditions yet");
             } else {
-                println!(
+                say!(
                     "{:<10}  {:<9}  {:<9}  {:<14}  section",
-                    "date", "range", "comfort", "voice type"
+                    "date",
+                    "range",
+                    "comfort",
+                    "voice type"
                 );
                 for entry in &history {
                     let profile = &entry.profile;
-                    println!(
+                    say!(
                         "{:<10}  {:<9}  {:<9}  {:<14}  {}",
                         entry.held_on,
                         format!("{}–{}", profile.range.low, profile.range.high),
@@ -437,9 +459,9 @@ pub fn run(arguments: LibraryArgs) -> anyhow::Result<()> {
                         profile.section
                     );
                 }
-                println!();
+                say!();
                 for caution in cautions() {
-                    println!("note: {caution}");
+                    say!("note: {caution}");
                 }
             }
         }
@@ -467,14 +489,14 @@ pub fn run(arguments: LibraryArgs) -> anyhow::Result<()> {
             };
             let imported = import_piece(&mut library, &score, &options, &Bar::new())?;
             if let Some(error) = &imported.view.mapping_error {
-                eprintln!("warning: {}: {error}", score.display());
+                say_err!("warning: {}: {error}", score.display());
             }
             let (id, title) = (imported.id, imported.title);
             match programme {
                 Some(programme) => {
-                    println!("stored piece {id} \"{title}\" in programme \"{programme}\"")
+                    say!("stored piece {id} \"{title}\" in programme \"{programme}\"")
                 }
-                None => println!("stored piece {id} \"{title}\""),
+                None => say!("stored piece {id} \"{title}\""),
             }
         }
         LibraryCommand::Pieces { programme } => {
@@ -484,9 +506,11 @@ pub fn run(arguments: LibraryArgs) -> anyhow::Result<()> {
                 None => library.pieces()?,
             };
             for piece in pieces {
-                println!(
+                say!(
                     "{:>4}  {}  ({})",
-                    piece.id, piece.title, piece.original_name
+                    piece.id,
+                    piece.title,
+                    piece.original_name
                 );
             }
         }
@@ -518,15 +542,15 @@ pub fn run(arguments: LibraryArgs) -> anyhow::Result<()> {
                 result,
                 notes,
             })?;
-            println!("saved scenario {id} \"{name}\"");
+            say!("saved scenario {id} \"{name}\"");
         }
         LibraryCommand::Scenarios { json } => {
             let scenarios = open(&folder)?.scenarios()?;
             if json {
-                println!("{}", serde_json::to_string_pretty(&scenarios)?);
+                say!("{}", serde_json::to_string_pretty(&scenarios)?);
             } else {
                 for scenario in scenarios {
-                    println!(
+                    say!(
                         "{:>4}  {}  {}  programme {}  layout {}{}",
                         scenario.id,
                         scenario.saved_at,
@@ -543,7 +567,7 @@ pub fn run(arguments: LibraryArgs) -> anyhow::Result<()> {
         }
         LibraryCommand::Backup { out } => {
             let manifest = open(&folder)?.backup(&out)?;
-            println!(
+            say!(
                 "backed up {} files to {} (schema version {})",
                 manifest.entries.len(),
                 out.display(),
@@ -552,7 +576,7 @@ pub fn run(arguments: LibraryArgs) -> anyhow::Result<()> {
         }
         LibraryCommand::Restore { backup } => {
             let manifest = Library::restore(&backup, &folder)?;
-            println!(
+            say!(
                 "restored {} files from {} into {} (every hash checked)",
                 manifest.entries.len(),
                 backup.display(),
@@ -563,14 +587,14 @@ pub fn run(arguments: LibraryArgs) -> anyhow::Result<()> {
             let mut library = open(&folder)?;
             if !yes {
                 let preview = preview_delete(&library, &name)?;
-                println!(
+                say!(
                     "would delete {}: their details, typed-in ranges, {} auditions and the recordings no one else shares; add --yes to delete",
                     preview.name, preview.auditions
                 );
                 return Ok(());
             }
             let deleted = delete_singer(&mut library, &name)?;
-            println!(
+            say!(
                 "deleted {} and {} recording files",
                 deleted.name,
                 deleted.recording_files.unwrap_or(0)
@@ -581,7 +605,7 @@ pub fn run(arguments: LibraryArgs) -> anyhow::Result<()> {
                 bail!("{}: already exists; give a new folder", out.display());
             }
             let export = open(&folder)?.export_person(&name, &out)?;
-            println!(
+            say!(
                 "exported {} ({} auditions) to {}",
                 export.singer.name,
                 export.auditions.len(),

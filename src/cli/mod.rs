@@ -1,5 +1,27 @@
 //! Command-line interface: one file per subcommand. Each subcommand parses
 //! its arguments, calls the engine and formats text or JSON.
+//!
+//! Everything the CLI prints goes through `say!`, `say_part!`, `say_err!`
+//! or [`write_stdout`], which pass the text through
+//! [`ambit::text::terminal_safe`]: names, track names and notes from user
+//! files can never send control sequences to the terminal.
+
+/// `println!` through [`ambit::text::terminal_safe`].
+macro_rules! say {
+    () => { println!() };
+    ($($arg:tt)*) => { println!("{}", ambit::text::terminal_safe(&format!($($arg)*))) };
+}
+
+/// `print!` through [`ambit::text::terminal_safe`].
+macro_rules! say_part {
+    ($($arg:tt)*) => { print!("{}", ambit::text::terminal_safe(&format!($($arg)*))) };
+}
+
+/// `eprintln!` through [`ambit::text::terminal_safe`].
+macro_rules! say_err {
+    () => { eprintln!() };
+    ($($arg:tt)*) => { eprintln!("{}", ambit::text::terminal_safe(&format!($($arg)*))) };
+}
 
 mod demo;
 mod fit;
@@ -60,7 +82,7 @@ pub(crate) fn write_stdout(text: &str) -> anyhow::Result<()> {
     use std::io::Write as _;
     let mut stdout = std::io::stdout().lock();
     match stdout
-        .write_all(text.as_bytes())
+        .write_all(ambit::text::terminal_safe(text).as_bytes())
         .and_then(|()| stdout.flush())
     {
         Err(error) if error.kind() == std::io::ErrorKind::BrokenPipe => Ok(()),

@@ -56,7 +56,7 @@ pub fn run(arguments: PartsArgs) -> anyhow::Result<()> {
         } else {
             serde_json::to_string_pretty(&reports)?
         };
-        println!("{text}");
+        say!("{text}");
     }
     Ok(())
 }
@@ -75,9 +75,9 @@ fn mean_and_band(mean_midi: f64, sd_semitones: f64, fifths: i32) -> String {
 fn print_table(report: &ScoreJson, parts: &[PartTessitura], fifths: i32) {
     let name = |midi: f64| midi_name_in_key(midi.round() as i32, fifths);
     let title = report.title.as_deref().unwrap_or("(untitled)");
-    println!("{title} — {}", report.file);
+    say!("{title} — {}", report.file);
     for warning in &report.warnings {
-        eprintln!("  warning: {warning}");
+        say_err!("  warning: {warning}");
     }
     let mut rows = vec![[
         "part".to_string(),
@@ -133,5 +133,5 @@ fn print_table(report: &ScoreJson, parts: &[PartTessitura], fifths: i32) {
         })
         .collect();
     super::fit::print_rows(&rows);
-    println!();
+    say!();
 }

@@ -21,6 +21,7 @@ use super::write_stdout;
 use ambit::roster::read_roster;
 use ambit::score::{ReadOptions, read_score};
 use ambit::sections::Layout;
+use ambit::text::{column_width, pad_right};
 
 #[derive(Debug, Args)]
 pub struct PlaceArgs {
@@ -129,7 +130,7 @@ pub fn run(arguments: PlaceArgs) -> anyhow::Result<()> {
         || arguments.roster.is_none();
     let library = if uses_library {
         let folder = ambit::library::resolve_folder(arguments.library.as_deref())?;
-        Some(ambit::library::Library::open(&folder)?)
+        Some(super::library::open(&folder)?)
     } else {
         None
     };
@@ -138,7 +139,7 @@ pub fn run(arguments: PlaceArgs) -> anyhow::Result<()> {
         (None, Some(library)) => {
             let (roster, left_out) = library.roster()?;
             for name in left_out {
-                eprintln!("note: {name} has no range in the library yet; left out");
+                say_err!("note: {name} has no range in the library yet; left out");
             }
             roster
         }
@@ -207,7 +208,7 @@ pub fn run(arguments: PlaceArgs) -> anyhow::Result<()> {
                 plan,
             },
         )?;
-        eprintln!("wrote {}", path.display());
+        say_err!("wrote {}", path.display());
     }
     let json = serde_json::to_value(place_view(matrix, placement, divisi))?;
     if let (Some(name), Some(mut library)) = (&arguments.save_scenario, library) {
@@ -219,7 +220,7 @@ pub fn run(arguments: PlaceArgs) -> anyhow::Result<()> {
             result: json.clone(),
             notes: None,
         })?;
-        eprintln!("saved scenario {id} \"{name}\" in the library");
+        say_err!("saved scenario {id} \"{name}\" in the library");
     }
     if arguments.json {
         write_stdout(&format!("{}\n", serde_json::to_string_pretty(&json)?))
@@ -230,23 +231,28 @@ pub fn run(arguments: PlaceArgs) -> anyhow::Result<()> {
 
 fn table(placement: &Placement, divisi: &[DivisiChoice]) -> Result<String, std::fmt::Error> {
     let mut out = String::new();
-    let width = placement
-        .assignments
-        .iter()
-        .map(|assignment| assignment.singer.chars().count())
-        .max()
-        .unwrap_or(6)
-        .max(6);
+    let width = column_width(
+        placement
+            .assignments
+            .iter()
+            .map(|assignment| assignment.singer.as_str()),
+        6,
+    );
     writeln!(
         out,
-        "{:<width$}  {:<7}  {:>5}  why",
-        "singer", "section", "fit"
+        "{}  {:<7}  {:>5}  why",
+        pad_right("singer", width),
+        "section",
+        "fit"
     )?;
     for assignment in &placement.assignments {
         writeln!(
             out,
-            "{:<width$}  {:<7}  {:>5.1}  {}",
-            assignment.singer, assignment.section, assignment.fit, assignment.explanation
+            "{}  {}  {:>5.1}  {}",
+            pad_right(&assignment.singer, width),
+            pad_right(&assignment.section, 7),
+            assignment.fit,
+            assignment.explanation
         )?;
     }
     writeln!(out)?;

@@ -62,32 +62,34 @@ pub fn run(arguments: ProfileArgs) -> anyhow::Result<()> {
         &Cancel::new(),
     )?;
     if arguments.json {
-        println!("{}", serde_json::to_string_pretty(&result)?);
+        say!("{}", serde_json::to_string_pretty(&result)?);
         return Ok(());
     }
     if let Some(name) = &arguments.roster_row {
-        print!(
+        ambit::text::check_name("--roster-row NAME", name).map_err(anyhow::Error::msg)?;
+        say_part!(
             "{}",
             ambit::roster::singer_to_csv_row(&ambit::roster::singer_from_profile(name, &result))?
         );
         for caution in &result.cautions {
-            eprintln!("note: {caution}");
+            say_err!("note: {caution}");
         }
         return Ok(());
     }
-    println!(
+    say!(
         "Range (held ≥ 1 s)   {} – {}  (confidence {:.0} %)",
         result.range.low,
         result.range.high,
         result.range_confidence * 100.0
     );
     if let Some(reached) = &result.reached {
-        println!(
+        say!(
             "Reached in glides    {} – {} (reached, not sustained)",
-            reached.low, reached.high
+            reached.low,
+            reached.high
         );
     }
-    println!(
+    say!(
         "Comfort zone         {} – {}  (confidence {:.0} %)",
         result.comfort.span.low,
         result.comfort.span.high,
@@ -111,7 +113,7 @@ pub fn run(arguments: ProfileArgs) -> anyhow::Result<()> {
             },
             PassaggioSource::Typical => "typical for the voice type, not measured".to_string(),
         };
-        println!(
+        say!(
             "Passaggio ({kind:<7})  {:<4} ({source}; confidence {:.0} %)",
             passaggio.name,
             passaggio.confidence * 100.0
@@ -131,25 +133,26 @@ pub fn run(arguments: ProfileArgs) -> anyhow::Result<()> {
                 )
             })
             .collect();
-        println!("Registers (sung)     {}", spans.join(", "));
+        say!("Registers (sung)     {}", spans.join(", "));
     }
     match result.speaking_f0_hz {
-        Some(hz) => println!(
+        Some(hz) => say!(
             "Speaking f0          {hz:.0} Hz ({})",
             nearest_name(ambit::pitch::hz_to_midi(hz).unwrap_or(0.0))
         ),
-        None => println!("Speaking f0          — (no speech task)"),
+        None => say!("Speaking f0          — (no speech task)"),
     }
     if let Some(timbre) = &result.timbre {
         let tilt = timbre
             .alpha_ratio_db
             .map_or_else(String::new, |alpha| format!(", alpha ratio {alpha:.1} dB"));
-        println!(
+        say!(
             "Timbre               centroid {:.0} Hz, singer's formant {:.1} dB{tilt} (weak evidence, not used for the type)",
-            timbre.centroid_hz, timbre.singers_formant_db
+            timbre.centroid_hz,
+            timbre.singers_formant_db
         );
     }
-    println!(
+    say!(
         "Voice type           {} ({:.0} %)",
         result.voice_type.label,
         result.voice_type.confidence * 100.0
@@ -161,25 +164,26 @@ pub fn run(arguments: ProfileArgs) -> anyhow::Result<()> {
             .iter()
             .map(|a| format!("{} {:.0} %", a.label, a.confidence * 100.0))
             .collect();
-        println!("  alternatives       {}", alternatives.join(", "));
+        say!("  alternatives       {}", alternatives.join(", "));
     }
-    println!(
+    say!(
         "Section              {} (runner-up {})",
-        result.section, result.section_runner_up
+        result.section,
+        result.section_runner_up
     );
-    println!("\nWhy:");
+    say!("\nWhy:");
     for reason in &result.reasons {
-        println!("  - {reason}");
+        say!("  - {reason}");
     }
     if !result.warnings.is_empty() {
-        println!("\nWarnings:");
+        say!("\nWarnings:");
         for warning in &result.warnings {
-            println!("  ! {warning}");
+            say!("  ! {warning}");
         }
     }
-    println!("\nPlease keep in mind:");
+    say!("\nPlease keep in mind:");
     for caution in &result.cautions {
-        println!("  * {caution}");
+        say!("  * {caution}");
     }
     Ok(())
 }

@@ -93,16 +93,16 @@ pub fn run(arguments: TransposeArgs) -> anyhow::Result<()> {
         },
     };
     if arguments.json {
-        println!("{}", serde_json::to_string_pretty(&output)?);
+        say!("{}", serde_json::to_string_pretty(&output)?);
         return Ok(());
     }
     match &output {
         TransposeJson::Soloist { advice, .. } => print_soloist(advice),
         TransposeJson::Choir { advice, .. } => print_choir(advice),
     }
-    println!();
+    say!();
     for caution in cautions() {
-        println!("• {caution}");
+        say!("• {caution}");
     }
     Ok(())
 }
@@ -112,7 +112,7 @@ fn key_cell(key: &Option<String>) -> String {
 }
 
 fn print_soloist(advice: &SoloistAdvice) {
-    println!(
+    say!(
         "{} singing {}{}",
         advice.singer,
         advice.part,
@@ -156,7 +156,7 @@ fn print_soloist(advice: &SoloistAdvice) {
 }
 
 fn print_choir(advice: &ChoirAdvice) {
-    println!(
+    say!(
         "{} for sections {}{}",
         advice.piece,
         advice.layout.join(" "),
@@ -194,15 +194,15 @@ fn print_choir(advice: &ChoirAdvice) {
         rows.push(row);
     }
     print_rows(&rows);
-    println!("Section columns: mean fit (0–100) of the singers placed there.");
+    say!("Section columns: mean fit (0–100) of the singers placed there.");
     if !advice.unplaced.is_empty() {
-        println!(
+        say!(
             "Not placed (no section in the roster): {}",
             advice.unplaced.join(", ")
         );
     }
     if !advice.empty_sections.is_empty() {
-        println!(
+        say!(
             "Nothing to sing in this piece: {}",
             advice.empty_sections.join(", ")
         );

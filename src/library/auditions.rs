@@ -71,12 +71,12 @@ impl Library {
             file: self.database.clone(),
             message,
         })?;
-        if input.singer.trim().is_empty() {
-            return Err(LibraryError::Invalid {
+        crate::text::check_name("the singer's name", &input.singer).map_err(|message| {
+            LibraryError::Invalid {
                 file: self.database.clone(),
-                message: "an audition needs the singer's name".into(),
-            });
-        }
+                message,
+            }
+        })?;
         let profile_json =
             serde_json::to_string(&input.profile).map_err(|error| LibraryError::Invalid {
                 file: self.database.clone(),

@@ -17,7 +17,8 @@ use sha2::{Digest, Sha256};
 use zip::write::SimpleFileOptions;
 
 use super::{
-    DATABASE_FILE, Library, LibraryError, RECORDINGS_DIR, SCORES_DIR, now_timestamp, schema,
+    DATABASE_FILE, Library, LibraryError, MAX_FILE_BYTES, RECORDINGS_DIR, SCORES_DIR,
+    create_private_dir, create_private_file, now_timestamp, schema,
 };
 
 /// The manifest's format name, so another zip is not taken for a backup.
@@ -25,6 +26,11 @@ pub const BACKUP_FORMAT: &str = "ambit-library-backup";
 const MANIFEST: &str = "manifest.json";
 /// Largest manifest read (a library of 100,000 files is about 15 MB).
 const MAX_MANIFEST_BYTES: u64 = 64 * 1024 * 1024;
+/// Most bytes a restore writes (all entries together; chosen here: far
+/// above a choir's library of two-minute auditions, and refused before
+/// anything is written). Each recording or score is also at most
+/// [`super::MAX_FILE_BYTES`], as when it was added.
+pub const MAX_RESTORE_BYTES: u64 = 64 << 30;
 
 /// One file in a backup.
 #[derive(Debug, Clone, PartialEq, Eq, Serialize, Deserialize)]
@@ -49,6 +55,13 @@ fn backup_error(file: &Path, message: impl Into<String>) -> LibraryError {
         file: file.to_path_buf(),
         message: message.into(),
     }
+}
+
+fn missing_entry(backup: &Path, entry: &str) -> LibraryError {
+    backup_error(
+        backup,
+        format!("{entry}: listed in manifest.json but missing (truncated?)"),
+    )
 }
 
 /// Entry names are `library.sqlite`, `recordings/<name>` or `scores/<name>`
@@ -77,93 +90,93 @@ impl Library {
             let file = file.to_path_buf();
             move |source| LibraryError::Io { file, source }
         };
-        let staging = tempdir_in(&self.folder, "backup")?;
+        // The snapshot is staged in the library (swept at the next open if
+        // this process is killed), or beside the output when the library
+        // is read-only.
+        let staging_parent = match (&self.read_only, out.parent()) {
+            (Some(_), Some(parent)) if !parent.as_os_str().is_empty() => parent.to_path_buf(),
+            (Some(_), _) => PathBuf::from("."),
+            (None, _) => self.folder.clone(),
+        };
+        let staging = tempdir_in(&staging_parent, "backup")?;
         let snapshot = staging.join(DATABASE_FILE);
-        self.conn
+        if let Err(error) = self
+            .conn
             .execute("VACUUM INTO ?1", [snapshot.to_string_lossy().as_ref()])
-            .map_err(|e| self.db_error(e))?;
+        {
+            let _ = std::fs::remove_dir_all(&staging);
+            return Err(self.db_error(error));
+        }
         // The files to include are those the snapshot refers to.
-        let (schema_version, files) = {
+        let snapshot_files = (|| {
             let copy = rusqlite::Connection::open(&snapshot).map_err(|e| self.db_error(e))?;
             let version: i64 = copy
                 .query_row("PRAGMA user_version", [], |row| row.get(0))
                 .map_err(|e| self.db_error(e))?;
-            let mut files = Vec::new();
-            for (dir, sql) in [
-                (
-                    RECORDINGS_DIR,
-                    "SELECT file_name FROM recordings ORDER BY file_name",
-                ),
-                (
-                    SCORES_DIR,
-                    "SELECT DISTINCT file_name FROM pieces ORDER BY file_name",
-                ),
-            ] {
-                let mut statement = copy.prepare(sql).map_err(|e| self.db_error(e))?;
-                let names = statement
-                    .query_map([], |row| row.get::<_, String>(0))
-                    .map_err(|e| self.db_error(e))?
-                    .collect::<Result<Vec<_>, _>>()
-                    .map_err(|e| self.db_error(e))?;
-                files.extend(names.into_iter().map(|name| (dir, name)));
+            // Nothing from outside the library goes into a backup.
+            let files = self.stored_files(&copy)?;
+            Ok::<_, LibraryError>((version, files))
+        })();
+        let (schema_version, files) = match snapshot_files {
+            Ok(found) => found,
+            Err(error) => {
+                let _ = std::fs::remove_dir_all(&staging);
+                return Err(error);
             }
-            (version, files)
         };
-        let temp_out = out.with_extension("partial");
-        let result =
-            (|| {
-                let mut zip = zip::ZipWriter::new(File::create(&temp_out).map_err(io(&temp_out))?);
-                let options = SimpleFileOptions::default()
-                    .compression_method(zip::CompressionMethod::Deflated)
-                    .large_file(true);
-                let mut entries = Vec::new();
-                let mut sources: Vec<(String, PathBuf)> =
-                    vec![(DATABASE_FILE.to_string(), snapshot.clone())];
-                sources.extend(files.iter().map(|(dir, name)| {
-                    (format!("{dir}/{name}"), self.folder.join(dir).join(name))
-                }));
-                for (entry, source) in sources {
-                    let mut file = File::open(&source).map_err(io(&source))?;
-                    zip.start_file(entry.as_str(), options)
-                        .map_err(|error| backup_error(&temp_out, error.to_string()))?;
-                    let mut hasher = Sha256::new();
-                    let mut buffer = vec![0u8; 64 * 1024];
-                    let mut bytes = 0u64;
-                    loop {
-                        let read = file.read(&mut buffer).map_err(io(&source))?;
-                        if read == 0 {
-                            break;
-                        }
-                        let chunk = buffer.get(..read).unwrap_or_default();
-                        hasher.update(chunk);
-                        zip.write_all(chunk).map_err(io(&temp_out))?;
-                        bytes += read as u64;
+        let temp_out = super::singers::partial_path(out);
+        let _pending = self.pending(&temp_out);
+        let result = (|| {
+            let mut zip = zip::ZipWriter::new(create_private_file(&temp_out)?);
+            let options = SimpleFileOptions::default()
+                .compression_method(zip::CompressionMethod::Deflated)
+                .large_file(true);
+            let mut entries = Vec::new();
+            let mut sources: Vec<(String, PathBuf)> =
+                vec![(DATABASE_FILE.to_string(), snapshot.clone())];
+            sources.extend(files.iter().cloned());
+            for (entry, source) in sources {
+                let mut file = File::open(&source).map_err(io(&source))?;
+                zip.start_file(entry.as_str(), options)
+                    .map_err(|error| backup_error(&temp_out, error.to_string()))?;
+                let mut hasher = Sha256::new();
+                let mut buffer = vec![0u8; 64 * 1024];
+                let mut bytes = 0u64;
+                loop {
+                    let read = file.read(&mut buffer).map_err(io(&source))?;
+                    if read == 0 {
+                        break;
                     }
-                    entries.push(ManifestEntry {
-                        path: entry,
-                        bytes,
-                        sha256: super::hex(&hasher.finalize()),
-                    });
+                    let chunk = buffer.get(..read).unwrap_or_default();
+                    hasher.update(chunk);
+                    zip.write_all(chunk).map_err(io(&temp_out))?;
+                    bytes += read as u64;
                 }
-                let manifest = BackupManifest {
-                    format: BACKUP_FORMAT.into(),
-                    format_version: 1,
-                    schema_version,
-                    created_at: now_timestamp(),
-                    entries,
-                };
-                let text = serde_json::to_vec_pretty(&manifest)
-                    .map_err(|error| backup_error(&temp_out, error.to_string()))?;
-                zip.start_file(MANIFEST, options)
-                    .map_err(|error| backup_error(&temp_out, error.to_string()))?;
-                zip.write_all(&text).map_err(io(&temp_out))?;
-                let file = zip
-                    .finish()
-                    .map_err(|error| backup_error(&temp_out, error.to_string()))?;
-                file.sync_all().map_err(io(&temp_out))?;
-                std::fs::rename(&temp_out, out).map_err(io(out))?;
-                Ok(manifest)
-            })();
+                entries.push(ManifestEntry {
+                    path: entry,
+                    bytes,
+                    sha256: super::hex(&hasher.finalize()),
+                });
+            }
+            let manifest = BackupManifest {
+                format: BACKUP_FORMAT.into(),
+                format_version: 1,
+                schema_version,
+                created_at: now_timestamp(),
+                entries,
+            };
+            let text = serde_json::to_vec_pretty(&manifest)
+                .map_err(|error| backup_error(&temp_out, error.to_string()))?;
+            zip.start_file(MANIFEST, options)
+                .map_err(|error| backup_error(&temp_out, error.to_string()))?;
+            zip.write_all(&text).map_err(io(&temp_out))?;
+            let file = zip
+                .finish()
+                .map_err(|error| backup_error(&temp_out, error.to_string()))?;
+            file.sync_all().map_err(io(&temp_out))?;
+            std::fs::rename(&temp_out, out).map_err(io(out))?;
+            Ok(manifest)
+        })();
         if result.is_err() {
             let _ = std::fs::remove_file(&temp_out);
         }
@@ -171,8 +184,16 @@ impl Library {
         result
     }
 
-    /// Checks a backup entry by entry and unpacks it into a staging folder.
-    fn unpack_checked(backup: &Path, staging: &Path) -> Result<BackupManifest, LibraryError> {
+    /// Reads and checks a backup's manifest against the zip before anything
+    /// is written: format and schema version, entry names, and sizes within
+    /// the restore budget ([`MAX_RESTORE_BYTES`], [`MAX_FILE_BYTES`] per
+    /// recording or score, the free space of the target's disk). The sizes
+    /// the zip declares must agree with the manifest's; while unpacking the
+    /// bytes are counted, so neither declaration is trusted alone.
+    fn check_backup(
+        backup: &Path,
+        folder: &Path,
+    ) -> Result<(zip::ZipArchive<File>, BackupManifest), LibraryError> {
         let file = File::open(backup).map_err(|source| LibraryError::Io {
             file: backup.to_path_buf(),
             source,
@@ -235,6 +256,7 @@ impl Library {
                 ));
             }
         }
+        let mut total_bytes = 0u64;
         for entry in &manifest.entries {
             if !safe_entry(&entry.path) {
                 return Err(backup_error(
@@ -242,26 +264,69 @@ impl Library {
                     format!("manifest.json: `{}` is not a library file name", entry.path),
                 ));
             }
-            let mut reader = archive.by_name(&entry.path).map_err(|_| {
-                backup_error(
+            if entry.path != DATABASE_FILE && entry.bytes > MAX_FILE_BYTES {
+                return Err(backup_error(
                     backup,
                     format!(
-                        "{}: listed in manifest.json but missing (truncated?)",
-                        entry.path
+                        "{}: {} bytes, more than the library keeps for one file ({MAX_FILE_BYTES} bytes); nothing was written",
+                        entry.path, entry.bytes
                     ),
-                )
-            })?;
+                ));
+            }
+            total_bytes = total_bytes.saturating_add(entry.bytes);
+            let declared = archive
+                .by_name(&entry.path)
+                .map(|file| file.size())
+                .map_err(|_| missing_entry(backup, &entry.path))?;
+            if declared != entry.bytes {
+                return Err(backup_error(
+                    backup,
+                    format!(
+                        "{}: the zip says {declared} bytes, manifest.json says {}: the backup is damaged or was changed; nothing was written",
+                        entry.path, entry.bytes
+                    ),
+                ));
+            }
+        }
+        if total_bytes > MAX_RESTORE_BYTES {
+            return Err(backup_error(
+                backup,
+                format!(
+                    "would write {total_bytes} bytes, more than a restore writes ({MAX_RESTORE_BYTES} bytes); nothing was written"
+                ),
+            ));
+        }
+        if let Some(free) = free_bytes(folder)
+            && total_bytes > free
+        {
+            return Err(backup_error(
+                backup,
+                format!(
+                    "would write {total_bytes} bytes but {} has {free} bytes free; nothing was written",
+                    folder.display()
+                ),
+            ));
+        }
+        Ok((archive, manifest))
+    }
+
+    /// Unpacks a checked backup into `staging`, comparing every entry's
+    /// bytes and SHA-256 with the manifest as it goes.
+    fn unpack_checked(
+        backup: &Path,
+        archive: &mut zip::ZipArchive<File>,
+        manifest: &BackupManifest,
+        staging: &Path,
+    ) -> Result<(), LibraryError> {
+        for entry in &manifest.entries {
+            let mut reader = archive
+                .by_name(&entry.path)
+                .map_err(|_| missing_entry(backup, &entry.path))?;
             let target = staging.join(&entry.path);
             if let Some(parent) = target.parent() {
-                std::fs::create_dir_all(parent).map_err(|source| LibraryError::Io {
-                    file: parent.to_path_buf(),
-                    source,
-                })?;
+                create_private_dir(parent)?;
             }
-            let mut out = File::create(&target).map_err(|source| LibraryError::Io {
-                file: target.clone(),
-                source,
-            })?;
+            let mut out = create_private_file(&target)?;
             let mut hasher = Sha256::new();
             let mut buffer = vec![0u8; 64 * 1024];
             let mut bytes = 0u64;
@@ -300,7 +365,7 @@ impl Library {
                 source,
             })?;
         }
-        Ok(manifest)
+        Ok(())
     }
 
     /// Restores a backup into `folder` (created if missing), replacing its
@@ -308,12 +373,11 @@ impl Library {
     /// left as it was. Recordings the restored database does not refer to
     /// are removed afterwards (delete means gone, also across a restore).
     pub fn restore(backup: &Path, folder: &Path) -> Result<BackupManifest, LibraryError> {
-        std::fs::create_dir_all(folder).map_err(|source| LibraryError::Io {
-            file: folder.to_path_buf(),
-            source,
-        })?;
+        create_private_dir(folder)?;
+        let (mut archive, manifest) = Library::check_backup(backup, folder)?;
         let staging = tempdir_in(folder, "restore")?;
-        let result = Library::restore_from_staging(backup, folder, &staging);
+        let result = Library::unpack_checked(backup, &mut archive, &manifest, &staging)
+            .and_then(|()| Library::restore_from_staging(backup, folder, &staging, manifest));
         let _ = std::fs::remove_dir_all(&staging);
         result
     }
@@ -322,8 +386,8 @@ impl Library {
         backup: &Path,
         folder: &Path,
         staging: &Path,
+        manifest: BackupManifest,
     ) -> Result<BackupManifest, LibraryError> {
-        let manifest = Library::unpack_checked(backup, staging)?;
         // The staged database must be a sound library before it replaces ours;
         // migrating it here keeps the swap below a plain rename.
         {
@@ -331,6 +395,11 @@ impl Library {
                 backup_error(backup, format!("library.sqlite in the backup: {error}"))
             })?;
             staged.check_integrity().map_err(|error| {
+                backup_error(backup, format!("library.sqlite in the backup: {error}"))
+            })?;
+            // A database naming files outside the library is refused here,
+            // and again wherever a name is used.
+            staged.check_stored_names().map_err(|error| {
                 backup_error(backup, format!("library.sqlite in the backup: {error}"))
             })?;
             staged
@@ -352,10 +421,7 @@ impl Library {
         for dir in [RECORDINGS_DIR, SCORES_DIR] {
             let from_dir = staging.join(dir);
             let to_dir = folder.join(dir);
-            std::fs::create_dir_all(&to_dir).map_err(|source| LibraryError::Io {
-                file: to_dir.clone(),
-                source,
-            })?;
+            create_private_dir(&to_dir)?;
             let Ok(entries) = std::fs::read_dir(&from_dir) else {
                 continue;
             };
@@ -386,16 +452,38 @@ impl Library {
     }
 }
 
-/// A fresh hidden folder inside `parent` (same file system, so renames work).
+/// A fresh hidden private folder inside `parent` (same file system, so
+/// renames work), named `.<purpose>-<pid>-<nanos>` so that the next open
+/// can tell a killed process's leftover from one still at work.
 fn tempdir_in(parent: &Path, purpose: &str) -> Result<PathBuf, LibraryError> {
-    let nanos = std::time::SystemTime::now()
-        .duration_since(std::time::UNIX_EPOCH)
-        .map(|elapsed| elapsed.subsec_nanos())
-        .unwrap_or(0);
-    let dir = parent.join(format!(".{purpose}-{}-{nanos}", std::process::id()));
-    std::fs::create_dir_all(&dir).map_err(|source| LibraryError::Io {
-        file: dir.clone(),
-        source,
-    })?;
+    let dir = parent.join(format!(
+        ".{purpose}-{}-{}",
+        std::process::id(),
+        super::unique_suffix()
+    ));
+    create_private_dir(&dir)?;
     Ok(dir)
+}
+
+/// Free bytes for this user on the disk holding `folder` (`statvfs`), or
+/// `None` where that is not known.
+fn free_bytes(folder: &Path) -> Option<u64> {
+    #[cfg(unix)]
+    {
+        use std::os::unix::ffi::OsStrExt as _;
+        let path = std::ffi::CString::new(folder.as_os_str().as_bytes()).ok()?;
+        // SAFETY: an all-zero statvfs is a valid value to be filled in.
+        let mut stats: libc::statvfs = unsafe { std::mem::zeroed() };
+        // SAFETY: `path` is NUL-terminated and `stats` is a valid out-pointer.
+        if unsafe { libc::statvfs(path.as_ptr(), &mut stats) } != 0 {
+            return None;
+        }
+        #[allow(clippy::unnecessary_cast)] // the field types differ between platforms
+        Some((stats.f_bavail as u64).saturating_mul(stats.f_frsize as u64))
+    }
+    #[cfg(not(unix))]
+    {
+        let _ = folder;
+        None
+    }
 }

@@ -17,6 +17,18 @@
 //! the two leaves an unreferenced file, which [`Library::sweep`] (run on
 //! every open) removes.
 //!
+//! Every file name read from the database is checked where it is used: it
+//! must be the bare SHA-256 name of its row inside its folder, else the
+//! operation stops with an error naming the row ([`LibraryError::StoredName`]).
+//! A restored backup whose database names anything else is refused.
+//!
+//! Opening runs `PRAGMA quick_check`. A damaged database, or a folder this
+//! user cannot write, is opened read-only ([`Library::read_only_reason`]);
+//! every write is then refused with [`LibraryError::ReadOnly`]. Deleted rows
+//! are overwritten (`PRAGMA secure_delete`), files are created 0600 and
+//! folders 0700 on Unix, and leftovers of a killed backup, restore or export
+//! are swept at the next open.
+//!
 //! Architecture invariant: the library stores and retrieves; it analyses
 //! nothing. Profiles, part analyses and placements arrive as finished values
 //! from the engine (called by the CLI or the app) and are kept as JSON, so
@@ -99,8 +111,24 @@ pub enum LibraryError {
     },
     #[error("{}: cannot migrate the schema: {message}", file.display())]
     Migration { file: PathBuf, message: String },
-    #[error("{}: damaged: integrity check says {message}", file.display())]
+    #[error(
+        "{}: damaged: integrity check says {message}; restore your latest backup with `ambit library restore BACKUP.zip` (see docs/DATA.md)",
+        file.display()
+    )]
     Damaged { file: PathBuf, message: String },
+    #[error(
+        "{}: {table} row {row}: the stored file name `{name}` is not the bare SHA-256 name of a file inside the library's {dir}/ folder; refusing to use it (the database was changed outside Ambit)",
+        file.display()
+    )]
+    StoredName {
+        file: PathBuf,
+        table: &'static str,
+        row: String,
+        dir: &'static str,
+        name: String,
+    },
+    #[error("{}: the library is open read-only ({reason}); nothing was changed", file.display())]
+    ReadOnly { file: PathBuf, reason: String },
     #[error(transparent)]
     Roster(#[from] crate::roster::RosterError),
     #[error("{}: {message}", file.display())]
@@ -142,7 +170,14 @@ pub struct Library {
     folder: PathBuf,
     database: PathBuf,
     conn: Connection,
+    /// Why the library is read-only, when it is (damaged, or a folder this
+    /// user cannot write).
+    read_only: Option<String>,
 }
+
+/// Leftovers of a killed backup, restore or export older than this are
+/// swept even when their process id is in use again.
+pub const LEFTOVER_GRACE: Duration = Duration::from_secs(24 * 60 * 60);
 
 /// Counts of what a library holds.
 #[derive(Debug, Clone, PartialEq, Eq, serde::Serialize, serde::Deserialize)]
@@ -167,8 +202,13 @@ impl Library {
             folder.join(RECORDINGS_DIR),
             folder.join(SCORES_DIR),
         ] {
-            std::fs::create_dir_all(&dir)
-                .map_err(|source| LibraryError::Io { file: dir, source })?;
+            create_private_dir(&dir)?;
+        }
+        // Created here (0600) rather than by SQLite, whose files follow the
+        // umask; its -wal and -shm files take the database file's mode.
+        let database = folder.join(DATABASE_FILE);
+        if !database.exists() {
+            create_private_file(&database)?;
         }
         Library::open_inner(folder, true)
     }
@@ -187,46 +227,65 @@ impl Library {
 
     fn open_inner(folder: &Path, create: bool) -> Result<Library, LibraryError> {
         let database = folder.join(DATABASE_FILE);
+        if !create && !is_writable(folder) {
+            return Library::open_read_only(
+                folder,
+                "this user cannot write to the library folder; reading, listing and backing up work"
+                    .into(),
+            );
+        }
+        match Library::open_read_write(folder, create) {
+            Err(LibraryError::Damaged { message, .. }) if !create => {
+                let reason = format!(
+                    "the database is damaged (integrity check: {message}); restore your latest backup with `ambit library restore BACKUP.zip` (see docs/DATA.md)"
+                );
+                Library::open_read_only(folder, reason).map_err(|_| LibraryError::Damaged {
+                    file: database.clone(),
+                    message,
+                })
+            }
+            other => other,
+        }
+    }
+
+    fn open_read_write(folder: &Path, create: bool) -> Result<Library, LibraryError> {
+        let database = folder.join(DATABASE_FILE);
         let mut flags = OpenFlags::SQLITE_OPEN_READ_WRITE | OpenFlags::SQLITE_OPEN_NO_MUTEX;
         if create {
             flags |= OpenFlags::SQLITE_OPEN_CREATE;
         }
-        let mut conn = Connection::open_with_flags(&database, flags)
-            .map_err(|source| database_error(&database, source))?;
-        conn.busy_timeout(BUSY_TIMEOUT)
-            .map_err(|source| database_error(&database, source))?;
-        // Read before writing anything: a foreign or newer file stays as it is.
-        let found: i64 = conn
-            .query_row("PRAGMA user_version", [], |row| row.get(0))
-            .map_err(|source| database_error(&database, source))?;
-        if found > schema::LATEST_VERSION {
-            return Err(LibraryError::NewerSchema {
-                file: database,
-                found,
-                supported: schema::LATEST_VERSION,
-            });
-        }
-        if found == 0 && !create {
-            let tables: i64 = conn
-                .query_row("SELECT count(*) FROM sqlite_schema", [], |row| row.get(0))
-                .map_err(|source| database_error(&database, source))?;
-            if tables > 0 {
-                return Err(LibraryError::NotSqlite { file: database });
+        let damaged = |source: rusqlite::Error| {
+            if source.sqlite_error_code() == Some(ErrorCode::DatabaseCorrupt) {
+                LibraryError::Damaged {
+                    file: database.clone(),
+                    message: source.to_string(),
+                }
+            } else {
+                database_error(&database, source)
             }
-        }
+        };
+        let mut conn = Connection::open_with_flags(&database, flags).map_err(damaged)?;
+        conn.busy_timeout(BUSY_TIMEOUT).map_err(damaged)?;
+        // Read before writing anything: a foreign or newer file stays as it is.
+        let found = Library::check_version(&conn, &database, create)?;
         // WAL lets the app read while the CLI writes; synchronous=FULL makes
         // every reported commit survive a crash of the process or the machine.
         let mode: String = conn
             .query_row("PRAGMA journal_mode = WAL", [], |row| row.get(0))
-            .map_err(|source| database_error(&database, source))?;
+            .map_err(damaged)?;
         if !mode.eq_ignore_ascii_case("wal") {
             return Err(LibraryError::Invalid {
                 file: database,
                 message: format!("cannot switch to WAL mode (journal mode is {mode})"),
             });
         }
-        conn.execute_batch("PRAGMA synchronous = FULL; PRAGMA foreign_keys = ON;")
-            .map_err(|source| database_error(&database, source))?;
+        // secure_delete: SQLite overwrites deleted content with zeros, so a
+        // deleted person cannot be read back from free pages of the file.
+        conn.execute_batch(
+            "PRAGMA synchronous = FULL; PRAGMA foreign_keys = ON; PRAGMA secure_delete = ON;",
+        )
+        .map_err(damaged)?;
+        quick_check(&conn, &database)?;
         if found < schema::LATEST_VERSION {
             schema::migrations()
                 .to_latest(&mut conn)
@@ -246,9 +305,234 @@ impl Library {
             folder: folder.to_path_buf(),
             database,
             conn,
+            read_only: None,
         };
+        library.sweep_leftovers();
         library.sweep()?;
         Ok(library)
+    }
+
+    /// Opens the library for reading only; every write is refused with
+    /// `reason`. Used for a damaged database and for a folder this user
+    /// cannot write. Nothing in the folder is changed.
+    pub fn open_read_only(folder: &Path, reason: String) -> Result<Library, LibraryError> {
+        let database = folder.join(DATABASE_FILE);
+        if !database.is_file() {
+            return Err(LibraryError::Missing {
+                folder: folder.to_path_buf(),
+            });
+        }
+        let wal_present = |side: &str| folder.join(format!("{DATABASE_FILE}{side}")).is_file();
+        // A WAL database needs its -shm index; in a folder we cannot write
+        // and without one, the file is read as it is (`immutable`): its last
+        // checkpoint holds every commit, as a clean close leaves it.
+        let wal_complete = wal_present("-wal") && wal_present("-shm");
+        let immutable = !(is_writable(folder) || wal_complete);
+        let uri = format!(
+            "file:{}?mode=ro{}",
+            uri_path(&database),
+            if immutable { "&immutable=1" } else { "" }
+        );
+        let flags = OpenFlags::SQLITE_OPEN_READ_ONLY
+            | OpenFlags::SQLITE_OPEN_URI
+            | OpenFlags::SQLITE_OPEN_NO_MUTEX;
+        let conn = Connection::open_with_flags(&uri, flags)
+            .map_err(|source| database_error(&database, source))?;
+        conn.busy_timeout(BUSY_TIMEOUT)
+            .map_err(|source| database_error(&database, source))?;
+        let found = Library::check_version(&conn, &database, false)?;
+        if found < schema::LATEST_VERSION {
+            return Err(LibraryError::ReadOnly {
+                file: database,
+                reason: format!(
+                    "{reason}; its schema (version {found}) is older than this Ambit's ({}) and cannot be updated without writing",
+                    schema::LATEST_VERSION
+                ),
+            });
+        }
+        Ok(Library {
+            folder: folder.to_path_buf(),
+            database,
+            conn,
+            read_only: Some(reason),
+        })
+    }
+
+    /// The schema version, after refusing a newer or a foreign database.
+    fn check_version(
+        conn: &Connection,
+        database: &Path,
+        create: bool,
+    ) -> Result<i64, LibraryError> {
+        let found: i64 = conn
+            .query_row("PRAGMA user_version", [], |row| row.get(0))
+            .map_err(|source| database_error(database, source))?;
+        if found > schema::LATEST_VERSION {
+            return Err(LibraryError::NewerSchema {
+                file: database.to_path_buf(),
+                found,
+                supported: schema::LATEST_VERSION,
+            });
+        }
+        if found == 0 && !create {
+            let tables: i64 = conn
+                .query_row("SELECT count(*) FROM sqlite_schema", [], |row| row.get(0))
+                .map_err(|source| database_error(database, source))?;
+            if tables > 0 {
+                return Err(LibraryError::NotSqlite {
+                    file: database.to_path_buf(),
+                });
+            }
+        }
+        Ok(found)
+    }
+
+    /// Why the library is open read-only (a damaged database, a folder this
+    /// user cannot write), or `None` when it can be changed.
+    pub fn read_only_reason(&self) -> Option<&str> {
+        self.read_only.as_deref()
+    }
+
+    /// Refuses a write on a read-only library.
+    pub(crate) fn check_writable(&self) -> Result<(), LibraryError> {
+        match &self.read_only {
+            Some(reason) => Err(LibraryError::ReadOnly {
+                file: self.database.clone(),
+                reason: reason.clone(),
+            }),
+            None => Ok(()),
+        }
+    }
+
+    /// The path of a stored file, after checking that the database names it
+    /// by its row's SHA-256 (`<sha256>` or `<sha256>.<ext>`, lower-case):
+    /// a name with a folder, `..`, an absolute path or anything else is an
+    /// error naming the row, so no command reaches outside the library.
+    pub(crate) fn stored_file(
+        &self,
+        dir: &'static str,
+        table: &'static str,
+        sha256: &str,
+        file_name: &str,
+    ) -> Result<PathBuf, LibraryError> {
+        stored_path(&self.folder, &self.database, dir, table, sha256, file_name)
+    }
+
+    /// Checks every file name the database stores (see [`Library::stored_file`]).
+    pub fn check_stored_names(&self) -> Result<(), LibraryError> {
+        self.stored_files(&self.conn).map(|_| ())
+    }
+
+    /// Every file the database behind `conn` (this library's, or a snapshot
+    /// of it) refers to, as (`dir/name`, path in this library), each name
+    /// checked with [`Library::stored_file`].
+    pub(crate) fn stored_files(
+        &self,
+        conn: &Connection,
+    ) -> Result<Vec<(String, PathBuf)>, LibraryError> {
+        let mut files = Vec::new();
+        for (dir, table, sql) in [
+            (
+                RECORDINGS_DIR,
+                "recordings",
+                "SELECT sha256, file_name FROM recordings ORDER BY file_name",
+            ),
+            (
+                SCORES_DIR,
+                "pieces",
+                "SELECT DISTINCT sha256, file_name FROM pieces ORDER BY file_name",
+            ),
+        ] {
+            let mut statement = conn.prepare(sql).map_err(|e| self.db_error(e))?;
+            let rows = statement
+                .query_map([], |row| {
+                    Ok((row.get::<_, String>(0)?, row.get::<_, String>(1)?))
+                })
+                .map_err(|e| self.db_error(e))?
+                .collect::<Result<Vec<_>, _>>()
+                .map_err(|e| self.db_error(e))?;
+            for (sha, name) in rows {
+                let path = self.stored_file(dir, table, &sha, &name)?;
+                files.push((format!("{dir}/{name}"), path));
+            }
+        }
+        Ok(files)
+    }
+
+    /// Removes what a killed backup, restore or export left: `.backup-*` and
+    /// `.restore-*` staging folders in the library folder, and the
+    /// `*.partial` outputs recorded in `.pending-*` markers. Only leftovers
+    /// whose process has ended (or that are older than [`LEFTOVER_GRACE`])
+    /// are removed. Best effort: a failure leaves them for the next open.
+    fn sweep_leftovers(&self) {
+        let Ok(entries) = std::fs::read_dir(&self.folder) else {
+            return;
+        };
+        for entry in entries.flatten() {
+            let name = entry.file_name().to_string_lossy().into_owned();
+            let Some(rest) = [".backup-", ".restore-", ".pending-"]
+                .iter()
+                .find_map(|prefix| name.strip_prefix(prefix))
+            else {
+                continue;
+            };
+            let pid = rest
+                .split('-')
+                .next()
+                .and_then(|pid| pid.parse::<u32>().ok());
+            let age = entry
+                .metadata()
+                .ok()
+                .and_then(|metadata| metadata.modified().ok())
+                .and_then(|modified| SystemTime::now().duration_since(modified).ok())
+                .unwrap_or_default();
+            let ended = pid.is_some_and(|pid| !process_alive(pid));
+            if !(ended || age >= LEFTOVER_GRACE) {
+                continue;
+            }
+            let path = entry.path();
+            if name.starts_with(".pending-") {
+                if let Ok(partial) = std::fs::read_to_string(&path) {
+                    let partial = PathBuf::from(partial.trim());
+                    if partial
+                        .file_name()
+                        .is_some_and(|name| name.to_string_lossy().ends_with(".partial"))
+                    {
+                        let _ = std::fs::remove_dir_all(&partial);
+                        let _ = std::fs::remove_file(&partial);
+                    }
+                }
+                let _ = std::fs::remove_file(&path);
+            } else {
+                let _ = std::fs::remove_dir_all(&path);
+            }
+        }
+    }
+
+    /// Notes `partial` (a backup or export being written outside the
+    /// library) in a `.pending-*` marker, so that the next open removes it
+    /// if this process is killed. The marker goes when the guard drops.
+    pub(crate) fn pending(&self, partial: &Path) -> PendingGuard {
+        if self.read_only.is_some() {
+            return PendingGuard { marker: None };
+        }
+        let marker = self.folder.join(format!(
+            ".pending-{}-{}",
+            std::process::id(),
+            unique_suffix()
+        ));
+        let absolute = std::path::absolute(partial).unwrap_or_else(|_| partial.to_path_buf());
+        let written = create_private_file(&marker).and_then(|mut file| {
+            use std::io::Write as _;
+            file.write_all(absolute.to_string_lossy().as_bytes())
+                .map_err(|source| LibraryError::Io {
+                    file: marker.clone(),
+                    source,
+                })
+        });
+        PendingGuard {
+            marker: written.is_ok().then_some(marker),
+        }
     }
 
     /// The library folder.
@@ -317,6 +601,9 @@ impl Library {
     /// process may be about to commit a reference to them. Returns how many
     /// files were removed.
     pub fn sweep(&self) -> Result<usize, LibraryError> {
+        if self.read_only.is_some() {
+            return Ok(0);
+        }
         self.sweep_older_than(SWEEP_GRACE)
     }
 
@@ -381,6 +668,7 @@ impl Library {
         &mut self,
         work: impl FnOnce(&rusqlite::Transaction<'_>, &Path) -> Result<T, LibraryError>,
     ) -> Result<T, LibraryError> {
+        self.check_writable()?;
         let database = self.database.clone();
         let transaction = self
             .conn
@@ -401,6 +689,7 @@ impl Library {
         dir: &str,
         source: &Path,
     ) -> Result<(String, String, u64), LibraryError> {
+        self.check_writable()?;
         let io = |file: &Path| {
             let file = file.to_path_buf();
             move |source| LibraryError::Io { file, source }
@@ -414,52 +703,63 @@ impl Library {
                 ),
             });
         }
-        let sha = sha256_file(source)?;
         let extension = source
             .extension()
             .and_then(|ext| ext.to_str())
             .filter(|ext| ext.len() <= 8 && ext.chars().all(|c| c.is_ascii_alphanumeric()))
             .map(|ext| ext.to_ascii_lowercase());
+        let dir_path = self.folder.join(dir);
+        create_private_dir(&dir_path)?;
+        // Copied first, through a byte budget (the length reported for a
+        // pipe or a device is not trusted), then hashed: the name is the
+        // hash of exactly the bytes stored. The copy is private (0600),
+        // whatever the source's mode.
+        let temp = dir_path.join(format!(
+            ".incoming-{}-{}",
+            std::process::id(),
+            unique_suffix()
+        ));
+        let copied = (|| {
+            let mut from = std::fs::File::open(source).map_err(io(source))?;
+            let mut to = create_private_file(&temp)?;
+            let bytes = copy_bounded(&mut from, source, &mut to, &temp, MAX_FILE_BYTES)?;
+            to.sync_all().map_err(io(&temp))?;
+            Ok::<_, LibraryError>((sha256_file(&temp)?, bytes))
+        })();
+        let (sha, bytes) = match copied {
+            Ok(copied) => copied,
+            Err(error) => {
+                let _ = std::fs::remove_file(&temp);
+                return Err(error);
+            }
+        };
         let file_name = match extension {
             Some(ext) => format!("{sha}.{ext}"),
             None => sha.clone(),
         };
-        let dir_path = self.folder.join(dir);
-        std::fs::create_dir_all(&dir_path).map_err(io(&dir_path))?;
         let target = dir_path.join(&file_name);
         if target.is_file() {
+            let _ = std::fs::remove_file(&temp);
             // Mark it fresh so a concurrent sweep keeps it until we commit.
             if let Ok(file) = std::fs::OpenOptions::new().append(true).open(&target) {
                 let _ = file.set_modified(SystemTime::now());
             }
             return Ok((sha, file_name, bytes));
         }
-        let temp = dir_path.join(format!(".incoming-{}-{}", std::process::id(), file_name));
-        std::fs::copy(source, &temp).map_err(io(&temp))?;
-        std::fs::File::open(&temp)
-            .and_then(|file| file.sync_all())
-            .map_err(io(&temp))?;
-        if sha256_file(&temp)? != sha {
-            let _ = std::fs::remove_file(&temp);
-            return Err(LibraryError::Invalid {
-                file: source.to_path_buf(),
-                message: "the file changed while it was being copied; try again".into(),
-            });
-        }
         std::fs::rename(&temp, &target).map_err(io(&target))?;
         sync_dir(&dir_path);
         Ok((sha, file_name, bytes))
     }
 
-    /// Deletes files after the transaction that dropped their last
-    /// reference has committed. A failure leaves the file for the sweep.
-    pub(crate) fn remove_files(&self, dir: &str, names: &[String]) -> usize {
-        let dir_path = self.folder.join(dir);
-        let removed = names
+    /// Deletes files (already checked with [`Library::stored_file`]) after
+    /// the transaction that dropped their last reference has committed. A
+    /// failure leaves the file for the sweep.
+    pub(crate) fn remove_files(&self, dir: &str, paths: &[PathBuf]) -> usize {
+        let removed = paths
             .iter()
-            .filter(|name| remove_file_if_present(&dir_path.join(name)).is_ok())
+            .filter(|path| remove_file_if_present(path).is_ok())
             .count();
-        sync_dir(&dir_path);
+        sync_dir(&self.folder.join(dir));
         removed
     }
 }
@@ -503,6 +803,211 @@ fn sync_dir(dir: &Path) {
     }
     #[cfg(not(unix))]
     let _ = dir;
+}
+
+/// Removes the `.pending-*` marker of a finished backup or export.
+pub(crate) struct PendingGuard {
+    marker: Option<PathBuf>,
+}
+
+impl Drop for PendingGuard {
+    fn drop(&mut self) {
+        if let Some(marker) = &self.marker {
+            let _ = std::fs::remove_file(marker);
+        }
+    }
+}
+
+/// `<sha256>` or `<sha256>.<ext>` (64 lower-case hex digits; an extension
+/// of 1–8 lower-case letters or digits), as [`Library::store_file`] names
+/// files: a bare name, inside its folder, with no way out of it.
+fn is_stored_name(sha256: &str, file_name: &str) -> bool {
+    let hex_ok = sha256.len() == 64
+        && sha256
+            .bytes()
+            .all(|b| b.is_ascii_digit() || (b'a'..=b'f').contains(&b));
+    let extension_ok = match file_name.strip_prefix(sha256) {
+        Some("") => true,
+        Some(rest) => rest.strip_prefix('.').is_some_and(|ext| {
+            (1..=8).contains(&ext.len())
+                && ext
+                    .bytes()
+                    .all(|b| b.is_ascii_lowercase() || b.is_ascii_digit())
+        }),
+        None => false,
+    };
+    hex_ok && extension_ok
+}
+
+/// The path of a stored file in `folder/dir`, or [`LibraryError::StoredName`]
+/// naming the row (see [`Library::stored_file`]).
+pub(crate) fn stored_path(
+    folder: &Path,
+    database: &Path,
+    dir: &'static str,
+    table: &'static str,
+    sha256: &str,
+    file_name: &str,
+) -> Result<PathBuf, LibraryError> {
+    if is_stored_name(sha256, file_name) {
+        Ok(folder.join(dir).join(file_name))
+    } else {
+        Err(LibraryError::StoredName {
+            file: database.to_path_buf(),
+            table,
+            row: format!("sha256 {}", crate::text::terminal_safe(sha256)),
+            dir,
+            name: file_name.to_string(),
+        })
+    }
+}
+
+/// Creates `dir` and its missing parents, readable by this user only (0700
+/// on Unix).
+pub(crate) fn create_private_dir(dir: &Path) -> Result<(), LibraryError> {
+    let mut builder = std::fs::DirBuilder::new();
+    builder.recursive(true);
+    #[cfg(unix)]
+    std::os::unix::fs::DirBuilderExt::mode(&mut builder, 0o700);
+    builder.create(dir).map_err(|source| LibraryError::Io {
+        file: dir.to_path_buf(),
+        source,
+    })
+}
+
+/// Creates (or truncates) a file readable by this user only (0600 on Unix).
+pub(crate) fn create_private_file(path: &Path) -> Result<std::fs::File, LibraryError> {
+    let mut options = std::fs::OpenOptions::new();
+    options.write(true).create(true).truncate(true);
+    #[cfg(unix)]
+    std::os::unix::fs::OpenOptionsExt::mode(&mut options, 0o600);
+    options.open(path).map_err(|source| LibraryError::Io {
+        file: path.to_path_buf(),
+        source,
+    })
+}
+
+/// Copies at most `budget` bytes from `from` to `to`, counting as it goes
+/// (a reported length is never trusted). A read error names `from_path`, a
+/// write error (a full disk) names `to_path`. Returns the bytes copied.
+pub(crate) fn copy_bounded(
+    from: &mut impl Read,
+    from_path: &Path,
+    to: &mut impl std::io::Write,
+    to_path: &Path,
+    budget: u64,
+) -> Result<u64, LibraryError> {
+    let mut buffer = vec![0u8; 64 * 1024];
+    let mut copied = 0u64;
+    loop {
+        let read = from.read(&mut buffer).map_err(|source| LibraryError::Io {
+            file: from_path.to_path_buf(),
+            source,
+        })?;
+        if read == 0 {
+            return Ok(copied);
+        }
+        copied += read as u64;
+        if copied > budget {
+            return Err(LibraryError::Invalid {
+                file: from_path.to_path_buf(),
+                message: format!(
+                    "too large (more than {budget} bytes; the library keeps files up to {MAX_FILE_BYTES} bytes)"
+                ),
+            });
+        }
+        to.write_all(buffer.get(..read).unwrap_or_default())
+            .map_err(|source| LibraryError::Io {
+                file: to_path.to_path_buf(),
+                source,
+            })?;
+    }
+}
+
+/// `PRAGMA quick_check` (SQLite's faster integrity check, run on every
+/// open): a damaged database is [`LibraryError::Damaged`].
+fn quick_check(conn: &Connection, database: &Path) -> Result<(), LibraryError> {
+    let answer = conn
+        .prepare("PRAGMA quick_check(5)")
+        .and_then(|mut statement| {
+            statement
+                .query_map([], |row| row.get::<_, String>(0))?
+                .collect::<Result<Vec<_>, _>>()
+        });
+    match answer {
+        Ok(lines) if lines.len() == 1 && lines[0] == "ok" => Ok(()),
+        Ok(lines) => Err(LibraryError::Damaged {
+            file: database.to_path_buf(),
+            message: lines.join("; "),
+        }),
+        Err(source) if is_busy(&source) => Err(database_error(database, source)),
+        Err(source) => Err(LibraryError::Damaged {
+            file: database.to_path_buf(),
+            message: source.to_string(),
+        }),
+    }
+}
+
+/// Whether this user may create files in `folder`.
+fn is_writable(folder: &Path) -> bool {
+    #[cfg(unix)]
+    {
+        use std::os::unix::ffi::OsStrExt as _;
+        let Ok(path) = std::ffi::CString::new(folder.as_os_str().as_bytes()) else {
+            return false;
+        };
+        // SAFETY: `path` is a valid NUL-terminated string for the call.
+        unsafe { libc::access(path.as_ptr(), libc::W_OK) == 0 }
+    }
+    #[cfg(not(unix))]
+    {
+        std::fs::metadata(folder).is_ok_and(|metadata| !metadata.permissions().readonly())
+    }
+}
+
+/// Whether a process with this id is running (on Unix, `kill(pid, 0)`;
+/// elsewhere assumed running, so only [`LEFTOVER_GRACE`] applies).
+fn process_alive(pid: u32) -> bool {
+    #[cfg(unix)]
+    {
+        let Ok(pid) = libc::pid_t::try_from(pid) else {
+            return false;
+        };
+        // SAFETY: signal 0 only checks that the process exists.
+        let result = unsafe { libc::kill(pid, 0) };
+        result == 0 || std::io::Error::last_os_error().raw_os_error() == Some(libc::EPERM)
+    }
+    #[cfg(not(unix))]
+    {
+        let _ = pid;
+        true
+    }
+}
+
+/// A path as an SQLite URI path (RFC 3986 percent-encoding of every byte
+/// that is not unreserved or `/`).
+fn uri_path(path: &Path) -> String {
+    let text = path.to_string_lossy();
+    #[cfg(windows)]
+    let text = text.replace('\\', "/");
+    let mut encoded = String::with_capacity(text.len());
+    for byte in text.bytes() {
+        if byte.is_ascii_alphanumeric() || b"/-._~".contains(&byte) {
+            encoded.push(byte as char);
+        } else {
+            encoded.push_str(&format!("%{byte:02X}"));
+        }
+    }
+    encoded
+}
+
+/// Nanoseconds of the current second, to tell apart temporary names made
+/// by one process.
+pub(crate) fn unique_suffix() -> u32 {
+    SystemTime::now()
+        .duration_since(UNIX_EPOCH)
+        .map(|elapsed| elapsed.subsec_nanos())
+        .unwrap_or(0)
 }
 
 /// SHA-256 of a file, hex, read in blocks (memory stays bounded).

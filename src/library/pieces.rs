@@ -2,7 +2,7 @@
 //! mapping and overrides), programmes (ordered pieces) and placement
 //! scenarios (constraints, result, notes, time), all as JSON from the engine.
 
-use std::path::{Path, PathBuf};
+use std::path::PathBuf;
 
 use rusqlite::{OptionalExtension, params};
 use serde::{Deserialize, Serialize};
@@ -69,11 +69,19 @@ impl Library {
         input: &PieceInput,
         programme: Option<&str>,
     ) -> Result<i64, LibraryError> {
-        if input.title.trim().is_empty() {
-            return Err(LibraryError::Invalid {
+        crate::text::check_name("the piece's title", &input.title).map_err(|message| {
+            LibraryError::Invalid {
                 file: input.score.clone(),
-                message: "a piece needs a title".into(),
-            });
+                message,
+            }
+        })?;
+        if let Some(programme) = programme {
+            crate::text::check_name("the programme's name", programme).map_err(|message| {
+                LibraryError::Invalid {
+                    file: self.database.clone(),
+                    message,
+                }
+            })?;
         }
         let (sha, file_name, _) = self.store_file(SCORES_DIR, &input.score)?;
         let original_name = input
@@ -81,16 +89,25 @@ impl Library {
             .file_name()
             .map(|name| name.to_string_lossy().into_owned())
             .unwrap_or_default();
+        let folder = self.folder.clone();
         let replaced_file = self.write(|transaction, database| {
             let db = |source| super::database_error(database, source);
-            let old: Option<String> = transaction
+            let old: Option<(String, String)> = transaction
                 .query_row(
-                    "SELECT file_name FROM pieces WHERE title = ?1",
+                    "SELECT sha256, file_name FROM pieces WHERE title = ?1",
                     params![input.title.trim()],
-                    |row| row.get(0),
+                    |row| Ok((row.get(0)?, row.get(1)?)),
                 )
                 .optional()
                 .map_err(db)?;
+            // The replaced score's name is checked before anything changes.
+            let old = match old {
+                Some((old_sha, old_name)) => Some((
+                    old_name.clone(),
+                    super::stored_path(&folder, database, SCORES_DIR, "pieces", &old_sha, &old_name)?,
+                )),
+                None => None,
+            };
             transaction
                 .execute(
                     "INSERT INTO pieces (title, sha256, file_name, original_name, analysis_json,
@@ -138,7 +155,7 @@ impl Library {
             }
             // The old score file goes if no piece uses it any more.
             let still_used = match &old {
-                Some(old) => transaction
+                Some((old, _)) => transaction
                     .query_row(
                         "SELECT count(*) FROM pieces WHERE file_name = ?1",
                         params![old],
@@ -148,7 +165,7 @@ impl Library {
                     > 0,
                 None => true,
             };
-            Ok((piece_id, if still_used { None } else { old }))
+            Ok((piece_id, if still_used { None } else { old.map(|(_, path)| path) }))
         })?;
         let (piece_id, orphan) = replaced_file;
         if let Some(orphan) = orphan {
@@ -192,26 +209,34 @@ impl Library {
     }
 
     fn piece_query(&self, sql: &str, name: Option<&str>) -> Result<Vec<PieceRecord>, LibraryError> {
-        let scores: &Path = &self.folder.join(SCORES_DIR);
         let mut statement = self.conn.prepare(sql).map_err(|e| self.db_error(e))?;
         let map = |row: &rusqlite::Row<'_>| {
-            Ok(PieceRecord {
-                id: row.get(0)?,
-                title: row.get(1)?,
-                sha256: row.get(2)?,
-                path: scores.join(row.get::<_, String>(3)?),
-                original_name: row.get(4)?,
-                analysis_version: row.get(5)?,
-                added_at: row.get(6)?,
-            })
+            Ok((
+                PieceRecord {
+                    id: row.get(0)?,
+                    title: row.get(1)?,
+                    sha256: row.get(2)?,
+                    path: PathBuf::new(),
+                    original_name: row.get(4)?,
+                    analysis_version: row.get(5)?,
+                    added_at: row.get(6)?,
+                },
+                row.get::<_, String>(3)?,
+            ))
         };
         let rows = match name {
             Some(name) => statement.query_map(params![name], map),
             None => statement.query_map([], map),
         }
+        .map_err(|e| self.db_error(e))?
+        .collect::<Result<Vec<_>, _>>()
         .map_err(|e| self.db_error(e))?;
-        rows.collect::<Result<Vec<_>, _>>()
-            .map_err(|e| self.db_error(e))
+        rows.into_iter()
+            .map(|(mut record, file_name)| {
+                record.path = self.stored_file(SCORES_DIR, "pieces", &record.sha256, &file_name)?;
+                Ok(record)
+            })
+            .collect()
     }
 
     /// The cached part analysis of a piece.
@@ -287,12 +312,12 @@ impl Library {
 
     /// Saves a placement scenario with the current time.
     pub fn save_scenario(&mut self, input: &ScenarioInput) -> Result<i64, LibraryError> {
-        if input.name.trim().is_empty() {
-            return Err(LibraryError::Invalid {
+        crate::text::check_name("the scenario's name", &input.name).map_err(|message| {
+            LibraryError::Invalid {
                 file: self.database.clone(),
-                message: "a scenario needs a name".into(),
-            });
-        }
+                message,
+            }
+        })?;
         if let Some(programme) = &input.programme {
             self.programme(programme)?;
         }

@@ -1,7 +1,6 @@
 //! Singers and typed-in ranges: roster import (plan, then all or nothing),
 //! roster export, listing, deletion and one person's data export.
 
-use std::collections::HashMap;
 use std::path::{Path, PathBuf};
 
 use rusqlite::{OptionalExtension, Transaction, params};
@@ -460,12 +459,12 @@ impl Library {
 
     /// Adds a singer with no range yet (an audition will measure it).
     pub fn add_singer(&mut self, name: &str, section: Option<&str>) -> Result<i64, LibraryError> {
-        if name.trim().is_empty() {
-            return Err(LibraryError::Invalid {
+        crate::text::check_name("the singer's name", name).map_err(|message| {
+            LibraryError::Invalid {
                 file: self.database.clone(),
-                message: "a singer needs a name".into(),
-            });
-        }
+                message,
+            }
+        })?;
         self.write(|transaction, database| {
             transaction
                 .execute(
@@ -503,7 +502,8 @@ impl Library {
     /// other audition refers to. Returns how many files were removed.
     pub fn delete_singer(&mut self, name: &str) -> Result<usize, LibraryError> {
         let id = self.singer_id(name)?;
-        let orphans = self.write(|transaction, database| {
+        let folder = self.folder.clone();
+        let paths = self.write(|transaction, database| {
             let db = |source| super::database_error(database, source);
             transaction
                 .execute("DELETE FROM singers WHERE id = ?1", params![id])
@@ -521,14 +521,31 @@ impl Library {
                 .map_err(db)?
                 .collect::<Result<Vec<_>, _>>()
                 .map_err(db)?;
-            for (sha, _) in &orphans {
+            let mut paths = Vec::new();
+            for (sha, file) in &orphans {
+                // A name reaching outside recordings/ rolls the whole deletion back.
+                paths.push(super::stored_path(
+                    &folder,
+                    database,
+                    RECORDINGS_DIR,
+                    "recordings",
+                    sha,
+                    file,
+                )?);
                 transaction
                     .execute("DELETE FROM recordings WHERE sha256 = ?1", params![sha])
                     .map_err(db)?;
             }
-            Ok(orphans.into_iter().map(|(_, file)| file).collect::<Vec<_>>())
+            Ok(paths)
         })?;
-        Ok(self.remove_files(RECORDINGS_DIR, &orphans))
+        let removed = self.remove_files(RECORDINGS_DIR, &paths);
+        // Fold the WAL into the database and empty it: its older frames
+        // still hold the deleted rows (secure_delete zeroes the pages that
+        // are written now, not the copies written before).
+        let _ = self
+            .conn
+            .query_row("PRAGMA wal_checkpoint(TRUNCATE)", [], |_| Ok(()));
+        Ok(removed)
     }
 
     /// One person's data: their rows as JSON and their recording files,
@@ -566,16 +583,18 @@ impl Library {
             .collect::<Result<Vec<_>, _>>()
             .map_err(|e| self.db_error(e))?;
         let auditions = self.auditions_of(id)?;
-        let io = |file: PathBuf| move |source| LibraryError::Io { file, source };
-        let recordings_out = out.join(RECORDINGS_DIR);
-        std::fs::create_dir_all(&recordings_out).map_err(io(recordings_out.clone()))?;
-        let mut copied: HashMap<String, ()> = HashMap::new();
+        // Every file name is checked before anything is written.
+        let mut files: Vec<(PathBuf, String)> = Vec::new();
         for audition in &auditions {
             for recording in &audition.recordings {
-                if copied.insert(recording.file_name.clone(), ()).is_none() {
-                    let from = self.folder.join(RECORDINGS_DIR).join(&recording.file_name);
-                    let to = recordings_out.join(&recording.file_name);
-                    std::fs::copy(&from, &to).map_err(io(from.clone()))?;
+                if !files.iter().any(|(_, name)| *name == recording.file_name) {
+                    let from = self.stored_file(
+                        RECORDINGS_DIR,
+                        "recordings",
+                        &recording.sha256,
+                        &recording.file_name,
+                    )?;
+                    files.push((from, recording.file_name.clone()));
                 }
             }
         }
@@ -585,13 +604,88 @@ impl Library {
             typed_ranges,
             auditions,
         };
-        let json_path = out.join("person.json");
         let json =
             serde_json::to_string_pretty(&export).map_err(|error| LibraryError::Invalid {
-                file: json_path.clone(),
+                file: out.join("person.json"),
                 message: error.to_string(),
             })?;
-        std::fs::write(&json_path, json).map_err(io(json_path.clone()))?;
+        if out.exists() {
+            return Err(LibraryError::Invalid {
+                file: out.to_path_buf(),
+                message: "already exists; give a new folder".into(),
+            });
+        }
+        // Written into `<out>.partial` and renamed when complete, so a full
+        // disk or a kill never leaves a half-written export under the name
+        // asked for; errors name the destination (what could not be written).
+        let partial = partial_path(out);
+        let _pending = self.pending(&partial);
+        let _ = std::fs::remove_dir_all(&partial);
+        let written = (|| {
+            let recordings_out = partial.join(RECORDINGS_DIR);
+            super::create_private_dir(&recordings_out)
+                .map_err(|error| rename_in(error, &partial, out))?;
+            for (from, name) in &files {
+                let to = recordings_out.join(name);
+                let mut source = std::fs::File::open(from).map_err(|source| LibraryError::Io {
+                    file: from.clone(),
+                    source,
+                })?;
+                let mut target = super::create_private_file(&to)
+                    .map_err(|error| rename_in(error, &partial, out))?;
+                super::copy_bounded(&mut source, from, &mut target, &to, u64::MAX)
+                    .and_then(|_| {
+                        target.sync_all().map_err(|source| LibraryError::Io {
+                            file: to.clone(),
+                            source,
+                        })
+                    })
+                    .map_err(|error| rename_in(error, &partial, out))?;
+            }
+            let json_path = partial.join("person.json");
+            let mut file = super::create_private_file(&json_path)
+                .map_err(|error| rename_in(error, &partial, out))?;
+            std::io::Write::write_all(&mut file, json.as_bytes())
+                .and_then(|()| file.sync_all())
+                .map_err(|source| LibraryError::Io {
+                    file: out.join("person.json"),
+                    source,
+                })?;
+            std::fs::rename(&partial, out).map_err(|source| LibraryError::Io {
+                file: out.to_path_buf(),
+                source,
+            })
+        })();
+        if let Err(error) = written {
+            let _ = std::fs::remove_dir_all(&partial);
+            return Err(error);
+        }
         Ok(export)
+    }
+}
+
+/// `<out>.partial` beside `out`: where an export or a backup is written
+/// before it is renamed into place.
+pub(crate) fn partial_path(out: &Path) -> PathBuf {
+    let mut name = out
+        .file_name()
+        .map(|name| name.to_os_string())
+        .unwrap_or_else(|| "export".into());
+    name.push(".partial");
+    out.with_file_name(name)
+}
+
+/// An I/O error on a file inside `partial` reported at its place in `out`,
+/// the destination the user asked for.
+fn rename_in(error: LibraryError, partial: &Path, out: &Path) -> LibraryError {
+    match error {
+        LibraryError::Io { file, source } => LibraryError::Io {
+            file: file
+                .strip_prefix(partial)
+                .map(|inner| out.join(inner))
+                .unwrap_or(file),
+            source,
+        },
+        other => other,
     }
 }

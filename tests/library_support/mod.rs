@@ -60,7 +60,12 @@ pub fn audition(singer: &str, held_on: &str, file: PathBuf, profile: Profile) ->
 
 /// Files in a library's recordings folder.
 pub fn recording_files(library_folder: &Path) -> Vec<String> {
-    let mut names: Vec<String> = std::fs::read_dir(library_folder.join("recordings"))
+    file_names(&library_folder.join("recordings"))
+}
+
+/// The names in a folder, sorted (none when it does not exist).
+pub fn file_names(folder: &Path) -> Vec<String> {
+    let mut names: Vec<String> = std::fs::read_dir(folder)
         .map(|entries| {
             entries
                 .flatten()
