@@ -16,11 +16,11 @@ use ambit::library::{
 use ambit::pitch::nearest_name;
 use ambit::roster::roster_to_csv;
 use ambit::sections::Layout;
+use ambit::text::{column_width, pad_right};
 use ambit::usecases::audition::{measure_audition, store_audition};
 use ambit::usecases::pieces::{ImportOptions, MappingChoice, import_piece};
 use ambit::usecases::singers::{delete_singer, preview_delete};
 use ambit::usecases::{Cancel, Progress as _};
-use ambit::text::{column_width, pad_right};
 use ambit::voice::{ProfileConfig, Task};
 
 use super::progress::Bar;
@@ -589,7 +589,8 @@ pub fn run(arguments: LibraryArgs) -> anyhow::Result<()> {
                 let preview = preview_delete(&library, &name)?;
                 say!(
                     "would delete {}: their details, typed-in ranges, {} auditions and the recordings no one else shares; add --yes to delete",
-                    preview.name, preview.auditions
+                    preview.name,
+                    preview.auditions
                 );
                 return Ok(());
             }

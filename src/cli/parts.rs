@@ -4,8 +4,8 @@ use std::path::PathBuf;
 
 use ambit::pitch::{Tuning, midi_name_in_key};
 use ambit::score::{PartKind, ReadOptions, read_score};
-use ambit::usecases::Progress as _;
 use ambit::tessitura::{HotSpotKind, PartTessitura, TessituraConfig, analyse_piece};
+use ambit::usecases::Progress as _;
 use ambit::views::{ScoreJson, score_view};
 use anyhow::Context;
 use clap::Args;

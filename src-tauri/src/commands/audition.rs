@@ -2,7 +2,6 @@
 //! measuring a profile from the files (a job), and saving it to the
 //! singer's history.
 
-
 use ambit::library::{RecordingInput, today};
 use ambit::usecases::audition::{measure_audition, store_audition};
 use ambit::usecases::{Cancel, Quiet};
