@@ -327,8 +327,11 @@ mod tests {
     #[test]
     fn embedded_scores_read_as_scores() {
         for (name, bytes) in SAMPLE_SCORES {
-            let piece =
-                crate::score::read_score_bytes(Path::new(name), bytes, &crate::score::ReadOptions::default());
+            let piece = crate::score::read_score_bytes(
+                Path::new(name),
+                bytes,
+                &crate::score::ReadOptions::default(),
+            );
             assert!(piece.is_ok(), "{name}: {:?}", piece.err());
         }
     }
