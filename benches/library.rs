@@ -10,7 +10,7 @@ use ambit::library::{AuditionInput, Library};
 use ambit::voice::Profile;
 use criterion::{Criterion, criterion_group, criterion_main};
 
-#[path = "../tests/library_support/mod.rs"]
+#[path = "../tests/it/library_support/mod.rs"]
 mod library_support;
 
 const SINGERS: usize = 2_000;

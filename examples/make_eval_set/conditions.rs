@@ -1,6 +1,6 @@
 //! The tracker evaluation grid: voice types × conditions, each a short
 //! synthetic recording with exact ground truth. Shared by
-//! `examples/make_eval_set` and `tests/track_accuracy.rs`, so CI runs a
+//! `examples/make_eval_set` and `tests/it/track_accuracy.rs`, so CI runs a
 //! subset of exactly what `docs/PERFORMANCE.md` reports.
 #![allow(dead_code)]
 

@@ -1,6 +1,6 @@
 //! Unit tests: worked examples checked by hand, an exhaustive brute force on
 //! tiny instances, and property tests. The scipy comparison lives in
-//! tests/placement_scipy.rs.
+//! tests/it/placement_scipy.rs.
 
 use super::*;
 use crate::synth::random::SplitMix64;

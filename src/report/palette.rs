@@ -8,7 +8,7 @@
 //! `_viridis_data`); we keep every eighth entry (33 control points, the last
 //! one included) and interpolate linearly between them, which stays within
 //! 2/255 of the full table (checked live against matplotlib in
-//! `tests/report.rs`).
+//! `tests/it/report.rs`).
 //!
 //! Text colour follows WCAG 2.x: relative luminance of sRGB and the contrast
 //! ratio (L1 + 0.05) / (L2 + 0.05); of black and white, the one with the

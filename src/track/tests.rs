@@ -1,5 +1,5 @@
 //! Unit tests of the tracker's internals; behaviour on signals is tested in
-//! tests/track.rs.
+//! tests/it/track.rs.
 
 use super::*;
 

@@ -1,6 +1,6 @@
 """Per-part ranges and pitch -> quarter-length histograms of Bach chorales
 from music21's bundled corpus, as the outside check for Ambit's MusicXML
-reader (tests/music21_chorales.rs).
+reader (tests/it/music21_chorales.rs).
 
 Usage: music21_chorales.py COUNT [--expand-repeats]
 

@@ -1,5 +1,5 @@
 """Prints matplotlib's viridis table (the 256 sRGB colours that define the
-palette, ListedColormap.colors) as JSON, for tests/report.rs."""
+palette, ListedColormap.colors) as JSON, for tests/it/report.rs."""
 import json
 
 import matplotlib

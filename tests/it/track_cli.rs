@@ -1,7 +1,7 @@
 //! `ambit track` end to end: a WAV written here, the JSON/CSV/summary shapes
 //! of the CLI contract, and clear errors.
 
-mod common;
+use crate::common;
 
 use std::path::Path;
 

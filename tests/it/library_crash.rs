@@ -12,7 +12,7 @@
 //! library at the same moment; each either succeeds or stops with the
 //! library's "busy" message, and nothing is lost or corrupted.
 
-mod library_support;
+use crate::library_support;
 
 use std::io::{BufRead, BufReader};
 use std::path::Path;
@@ -85,7 +85,7 @@ fn kill_at_random_points_loses_nothing() {
         let mut child = Command::new(std::env::current_exe().unwrap())
             .args([
                 "--exact",
-                "child_writer",
+                "library_crash::child_writer",
                 "--ignored",
                 "--nocapture",
                 "--test-threads=1",

@@ -143,7 +143,7 @@ fn demo_auditions_recover_range_type_and_passaggi() {
     assert!(spurious.is_empty(), "spurious breaks: {spurious:#?}");
 }
 
-mod common;
+use crate::common;
 
 /// `ambit profile` on one demo singer's audition written as WAV files: the
 /// JSON shape of the CLI contract, and a roster row that reads back.

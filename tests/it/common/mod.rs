@@ -127,3 +127,24 @@ pub fn bad_score_error(name: &str, places: &[&str]) -> ambit::score::ScoreError 
     }
     error
 }
+
+/// Whether this process should run the body of `test` (its full path in
+/// the `it` binary, e.g. `bad_audio::two_hour_file_streams_in_bounded_memory`).
+/// In the shared test process it runs the test again, alone, in a child
+/// process of this binary, asserts that it passed, and returns `false`; in
+/// that child it returns `true`. For checks of this process's own resource
+/// use (resident memory), which other tests running at the same time in one
+/// binary would disturb.
+pub fn in_own_process(test: &str) -> bool {
+    const VARIABLE: &str = "AMBIT_TEST_ALONE";
+    if std::env::var(VARIABLE).as_deref() == Ok(test) {
+        return true;
+    }
+    let status = Command::new(std::env::current_exe().expect("the test binary"))
+        .args([test, "--exact", "--nocapture", "--test-threads=1"])
+        .env(VARIABLE, test)
+        .status()
+        .expect("the test binary runs");
+    assert!(status.success(), "{test} failed in its own process");
+    false
+}

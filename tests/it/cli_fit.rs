@@ -2,7 +2,7 @@
 //! reported with its file, line and column and a failing exit status, before
 //! any score is read.
 
-mod common;
+use crate::common;
 
 use std::process::Command;
 
@@ -42,7 +42,7 @@ fn transpose_reports_an_empty_roster_and_fails() {
 }
 
 /// Typical choral tenor and bass, from memory (common practice, as in
-/// tests/fit.rs): tenor comfort D3–G4, range B2–B4; bass comfort G2–C4,
+/// tests/it/fit.rs): tenor comfort D3–G4, range B2–B4; bass comfort G2–C4,
 /// range E2–E4. Sections T and B as the current placement.
 fn tenor_and_bass_roster(directory: &std::path::Path) -> std::path::PathBuf {
     let path = directory.join("men.csv");

@@ -11,7 +11,7 @@
 //! The median of a sinusoidal vibrato is its centre, as is the mean over whole
 //! cycles, so the two agree when both trackers follow the voice.
 
-mod common;
+use crate::common;
 
 use ambit::demo::{DEMO_CHOIR, DemoSinger, synthesise_task};
 use ambit::pitch::midi_to_hz;

@@ -18,7 +18,7 @@ use ambit::roster::parse_roster;
 use ambit::score::{ReadOptions, read_score};
 use ambit::sections::LineRole;
 
-mod common;
+use crate::common;
 
 /// Invented singers with typical choral ranges and comfort zones (from
 /// memory: soprano about C4–A5, alto G3–D5, tenor C3–A4, bass E2–D4). Each

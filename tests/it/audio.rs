@@ -4,7 +4,7 @@
 //! formula (a sine of known frequency and amplitude), the definition of RMS,
 //! the quantisation step of the bit depth, or a codec's documented delay.
 
-mod common;
+use crate::common;
 
 use std::f64::consts::TAU;
 use std::path::{Path, PathBuf};

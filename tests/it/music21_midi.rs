@@ -9,7 +9,7 @@
 //! the script applies the same two steps to the score for the reference list.
 //! MIDI carries no ties, so every Ambit note has `tied_from_previous == false`.
 
-mod common;
+use crate::common;
 
 use ambit::score::{ReadOptions, read_score};
 use serde_json::Value;

@@ -3,7 +3,7 @@
 //! that names the file. (The cargo-fuzz target `fuzz/fuzz_targets/midi.rs`
 //! explores the same property without a seed corpus limit.)
 
-mod smf_builder;
+use crate::smf_builder;
 
 use std::path::Path;
 

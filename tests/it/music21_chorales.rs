@@ -16,7 +16,7 @@
 //! music21 splits a two-staff piano part into one PartStaff per staff where
 //! Ambit keeps one part.
 
-mod common;
+use crate::common;
 
 use std::collections::BTreeMap;
 

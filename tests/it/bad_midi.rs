@@ -9,7 +9,7 @@
 //! whose data begins with a C4 of 480 ticks: `00 90 3C 50` then `83 60 80 3C
 //! 40` (9 bytes), so the next event starts at byte 31.
 
-mod common;
+use crate::common;
 
 use std::path::Path;
 

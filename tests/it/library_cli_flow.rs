@@ -4,7 +4,7 @@
 //! place the choir and save the scenario, back up, delete a singer,
 //! restore. Each step is checked on disk, not only by what the command says.
 
-mod common;
+use crate::common;
 
 use std::path::{Path, PathBuf};
 use std::process::Command;

@@ -12,7 +12,7 @@
 //! fails whenever one of them converts a profile differently (as the
 //! library once did, keeping typical passaggi as if measured).
 
-mod common;
+use crate::common;
 
 use std::path::{Path, PathBuf};
 use std::process::Command;

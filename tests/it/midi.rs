@@ -1,5 +1,5 @@
 //! Worked examples for the MIDI reader. Each file is built byte by byte
-//! (tests/smf_builder) and each expected value is worked out by hand from the
+//! (tests/it/smf_builder) and each expected value is worked out by hand from the
 //! Standard MIDI Files 1.0 specification (MIDI Manufacturers Association,
 //! 1996), cited below as "SMF 1.0":
 //! - seconds = Σ ticks / PPQ × (µs per quarter) / 10⁶ over each stretch of
@@ -7,7 +7,7 @@
 //! - with SMPTE division, ticks per second = frames per second × ticks per frame;
 //! - a note-on with velocity 0 is a note-off; time signatures nn/2^dd.
 
-mod smf_builder;
+use crate::smf_builder;
 
 use std::path::Path;
 

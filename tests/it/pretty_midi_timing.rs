@@ -12,8 +12,8 @@
 //! - pretty_midi closes *every* open note of a pitch at one note-off; Ambit
 //!   pairs note-ons and note-offs first-in, first-out.
 
-mod common;
-mod smf_builder;
+use crate::common;
+use crate::smf_builder;
 
 use std::collections::BTreeMap;
 use std::path::Path;

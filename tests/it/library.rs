@@ -2,7 +2,7 @@
 //! auditions, read a singer's history, back up and restore, delete a
 //! person's data — and every bad input refused with the library unchanged.
 
-mod library_support;
+use crate::library_support;
 
 use std::path::Path;
 

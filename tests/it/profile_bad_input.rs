@@ -18,7 +18,7 @@
 //! synthesiser: Degradations). Each file goes through the same path as
 //! `ambit profile`: decode, track, profile.
 
-mod common;
+use crate::common;
 
 use std::path::Path;
 

@@ -3,7 +3,7 @@
 //! palette is matplotlib's viridis; names from a roster are escaped; a
 //! placement that cannot be made writes no report.
 
-mod common;
+use crate::common;
 
 use std::path::Path;
 

@@ -1,7 +1,7 @@
 //! `ambit place` argument errors: each names the option and what is wrong,
 //! and nothing is printed on stdout.
 
-mod common;
+use crate::common;
 
 fn place_error(arguments: &[&str]) -> String {
     let mut all = vec!["place", "--roster", "roster.csv", "--layout", "SATB"];

@@ -4,9 +4,9 @@
 //! damaged and read-only libraries, interrupted exports, spreadsheet
 //! formulas in CSV cells, control characters and very long names.
 
-mod common;
-mod library_support;
-mod smf_builder;
+use crate::common;
+use crate::library_support;
+use crate::smf_builder;
 
 use std::io::{Read, Write};
 use std::path::{Path, PathBuf};

@@ -2,9 +2,9 @@
 //! (`*.xml`, `*.musicxml`, `*.mxl`) and a few generated ones must give an
 //! `Err` whose message names the file and the place (byte offset, line and
 //! column, measure, or archive entry) — never a panic, a hang or unbounded
-//! memory. The MIDI side of the corpus is checked in tests/bad_midi.rs.
+//! memory. The MIDI side of the corpus is checked in tests/it/bad_midi.rs.
 
-mod common;
+use crate::common;
 
 use std::path::{Path, PathBuf};
 

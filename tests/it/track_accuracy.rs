@@ -12,8 +12,8 @@
 //! al. 2014) at least pyin's on every condition, and at least 98 % on clean
 //! singing. Full figures: scripts/evaluate_tracker.py → docs/PERFORMANCE.md.
 
-mod common;
-#[path = "../examples/make_eval_set/conditions.rs"]
+use crate::common;
+#[path = "../../examples/make_eval_set/conditions.rs"]
 mod conditions;
 
 use std::fmt::Write as _;

@@ -14,7 +14,7 @@
 //! Ambit's optimum must equal scipy's within 1e-9 relative, and an instance
 //! must be infeasible for Ambit exactly when it is for scipy.
 
-mod common;
+use crate::common;
 
 use ambit::placement::{PlacementConfig, PlacementError, PlacementProblem, SizeLimit, place};
 use ambit::synth::random::SplitMix64;

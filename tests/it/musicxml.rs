@@ -3,7 +3,7 @@
 //! reference (W3C Music Notation CG, element pages named in the comments) or
 //! from common practice in reading printed music, as stated beside it.
 
-mod common;
+use crate::common;
 
 use std::path::Path;
 
