@@ -152,8 +152,9 @@ fn root_file(path: &Path, container: &[u8]) -> Result<String, ScoreError> {
     };
     let text = std::str::from_utf8(container.strip_prefix(b"\xEF\xBB\xBF").unwrap_or(container))
         .map_err(|error| malformed(format!("not UTF-8 at byte {}", error.valid_up_to())))?;
-    super::prescan::prescan(text.as_bytes())
-        .map_err(|_| malformed("nested too deeply or declares entities".into()))?;
+    super::prescan::prescan(text.as_bytes()).map_err(|_| {
+        malformed("nested too deeply, or has a DOCTYPE internal subset (entities)".into())
+    })?;
     let options = roxmltree::ParsingOptions {
         allow_dtd: true,
         nodes_limit: 100_000,
