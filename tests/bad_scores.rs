@@ -201,3 +201,29 @@ fn repeats_that_unroll_without_end_are_capped() {
         "{message}"
     );
 }
+
+#[test]
+fn an_archive_entry_with_unsupported_compression_is_named_as_such() {
+    // A deflated archive whose method fields (local header byte 8, central
+    // directory header byte 10; PKWARE APPNOTE 4.3.7 and 4.3.12) are
+    // rewritten to 12, bzip2: the entry is refused as unsupported
+    // compression, not as damaged or truncated.
+    let mut archive = common::zip_archive(&[("score.musicxml", b"<score-partwise/>")]);
+    let local = archive
+        .windows(4)
+        .position(|window| window == b"PK\x03\x04")
+        .expect("a local header");
+    let central = archive
+        .windows(4)
+        .position(|window| window == b"PK\x01\x02")
+        .expect("a central directory header");
+    archive[local + 8] = 12;
+    archive[central + 10] = 12;
+    let error = read_score_bytes(Path::new("bzip2.mxl"), &archive, &ReadOptions::default())
+        .expect_err("bzip2 is not read");
+    let message = error.to_string();
+    assert!(matches!(error, ScoreError::Unsupported { .. }), "{message}");
+    assert!(message.contains("bzip2.mxl"), "{message}");
+    assert!(message.contains("compression"), "{message}");
+    assert!(!message.contains("damaged"), "{message}");
+}
