@@ -54,7 +54,7 @@ pub fn too_large_message(budget: u64, what: &str) -> String {
 pub fn human_bytes(bytes: u64) -> String {
     const UNITS: [(&str, u64); 3] = [("GiB", 1 << 30), ("MiB", 1 << 20), ("KiB", 1 << 10)];
     for (unit, size) in UNITS {
-        if bytes >= size && bytes % size == 0 {
+        if bytes >= size && bytes.is_multiple_of(size) {
             return format!("{} {unit}", bytes / size);
         }
     }
@@ -244,7 +244,7 @@ mod tests {
 
         let mut streamed = BoundedFile::open(Path::new("/dev/zero"), 1000, "tests").expect("open");
         let mut sink = Vec::new();
-        let result = (&mut streamed).read_to_end(&mut sink);
+        let result = streamed.read_to_end(&mut sink);
         assert!(result.is_err() && streamed.exceeded());
         assert_eq!(sink.len(), 1000);
     }
