@@ -86,6 +86,7 @@ fn bench(c: &mut Criterion) {
         group.throughput(Throughput::Elements(source_samples));
         let options = DecodeOptions {
             target_sample_rate: rate,
+            ..DecodeOptions::default()
         };
         group.bench_function(name, |b| {
             b.iter(|| black_box(decode_file(&path, &options).expect("decode")))

@@ -15,6 +15,7 @@ pub mod audio;
 pub mod cautions;
 pub mod demo;
 pub mod fit;
+pub mod input;
 pub mod library;
 pub mod pitch;
 pub mod placement;

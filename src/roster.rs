@@ -100,8 +100,8 @@ pub enum RosterError {
         #[source]
         source: std::io::Error,
     },
-    #[error("{}: too large ({bytes} bytes; Ambit reads rosters up to {MAX_ROSTER_BYTES} bytes)", file.display())]
-    TooLarge { file: PathBuf, bytes: u64 },
+    #[error("{}: {}", file.display(), crate::input::too_large_message(MAX_ROSTER_BYTES, "rosters"))]
+    TooLarge { file: PathBuf },
     #[error("{}: {place}: {message}", file.display())]
     Invalid {
         file: PathBuf,
@@ -143,18 +143,13 @@ const OPTIONAL_COLUMNS: [&str; 5] = ["primo", "secondo", "voice_type", "section"
 
 /// Reads a roster file, CSV or JSON (recognised by its first character).
 pub fn read_roster(path: &Path) -> Result<Roster, RosterError> {
-    let io_error = |source| RosterError::Io {
-        file: path.to_path_buf(),
-        source,
-    };
-    let bytes = std::fs::metadata(path).map_err(io_error)?.len();
-    if bytes > MAX_ROSTER_BYTES {
-        return Err(RosterError::TooLarge {
-            file: path.to_path_buf(),
-            bytes,
-        });
-    }
-    let data = std::fs::read(path).map_err(io_error)?;
+    let data =
+        crate::input::read_bounded(path, MAX_ROSTER_BYTES, "rosters").map_err(
+            |error| match error {
+                crate::input::InputError::Io { file, source } => RosterError::Io { file, source },
+                crate::input::InputError::TooLarge { file, .. } => RosterError::TooLarge { file },
+            },
+        )?;
     parse_roster(path, &data)
 }
 

@@ -6,7 +6,6 @@
 //! size bounds it: 1152 frames for MP3, 1024 for AAC, ≤ 4096 for Vorbis,
 //! ≤ 65 535 for FLAC).
 
-use std::fs::File;
 use std::panic::{AssertUnwindSafe, catch_unwind};
 use std::path::Path;
 
@@ -18,6 +17,18 @@ use symphonia::core::io::MediaSourceStream;
 use symphonia::core::meta::MetadataOptions;
 
 use super::AudioError;
+use crate::input::{BoundedFile, InputError};
+
+/// symphonia reads through the byte budget of [`crate::input`].
+impl symphonia::core::io::MediaSource for BoundedFile {
+    fn is_seekable(&self) -> bool {
+        self.is_regular()
+    }
+
+    fn byte_len(&self) -> Option<u64> {
+        self.regular_len()
+    }
+}
 
 /// Give up when this many packets in a row fail to decode: the stream is
 /// garbage, not a file with a few damaged frames.
@@ -93,10 +104,18 @@ fn guarded<T>(path: &Path, what: &str, f: impl FnOnce() -> T) -> Result<T, Audio
 
 impl CodecSource {
     pub(crate) fn open(path: &Path) -> Result<Self, AudioError> {
-        let file = File::open(path).map_err(|source| AudioError::Io {
-            file: path.to_path_buf(),
-            source,
-        })?;
+        // Through the byte budget: a device or pipe that never ends is
+        // stopped at MAX_AUDIO_BYTES, whatever length it reports.
+        let file =
+            BoundedFile::open(path, super::MAX_AUDIO_BYTES, "audio files").map_err(|error| {
+                match error {
+                    InputError::Io { file, source } => AudioError::Io { file, source },
+                    InputError::TooLarge { .. } => AudioError::Unusable {
+                        file: path.to_path_buf(),
+                        message: error.message(),
+                    },
+                }
+            })?;
         let mss = MediaSourceStream::new(Box::new(file), Default::default());
         let mut hint = Hint::new();
         if let Some(ext) = path.extension().and_then(|e| e.to_str()) {

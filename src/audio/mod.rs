@@ -46,19 +46,45 @@ pub const MAX_SOURCE_SAMPLE_RATE: u32 = 384_000;
 /// clipped (integer PCM uses its top code instead).
 pub const FLOAT_CLIP_LEVEL: f32 = 0.9999;
 
+/// Longest recording decoded whole by default ([`DecodeOptions::default`]):
+/// 30 minutes, far beyond any audition task (a song is a few minutes), and
+/// about 160 MB of mono samples at [`ANALYSIS_SAMPLE_RATE`].
+pub const MAX_DECODE_SECONDS: f64 = 30.0 * 60.0;
+/// Largest compressed or companded audio file read (a budget on the bytes
+/// read, so a device or pipe that never ends is stopped): 4 GiB, the most a
+/// RIFF/WAV file can hold. Durations are capped separately.
+pub const MAX_AUDIO_BYTES: u64 = 4 << 30;
+
 /// How to decode.
 #[derive(Debug, Clone, Copy, PartialEq, Serialize, Deserialize)]
 pub struct DecodeOptions {
     /// Resample to this rate; `None` keeps the file's own rate.
     pub target_sample_rate: Option<u32>,
+    /// Refuse recordings longer than this ([`AudioError::TooLong`]): early
+    /// when the header gives the length, else as soon as decoding passes
+    /// it, so no more than this much audio is ever held. `None`: no limit
+    /// (for streaming readers whose memory does not grow with the length).
+    pub max_duration_seconds: Option<f64>,
 }
 
 impl Default for DecodeOptions {
-    /// Resample to [`ANALYSIS_SAMPLE_RATE`].
+    /// Resample to [`ANALYSIS_SAMPLE_RATE`]; at most [`MAX_DECODE_SECONDS`].
     fn default() -> Self {
         Self {
             target_sample_rate: Some(ANALYSIS_SAMPLE_RATE),
+            max_duration_seconds: Some(MAX_DECODE_SECONDS),
         }
+    }
+}
+
+/// "30 min", "4 h", "90 s": a duration limit in words.
+pub fn duration_words(seconds: f64) -> String {
+    if seconds >= 3600.0 && (seconds / 3600.0).fract() == 0.0 {
+        format!("{} h", seconds / 3600.0)
+    } else if seconds >= 60.0 && (seconds / 60.0).fract() == 0.0 {
+        format!("{} min", seconds / 60.0)
+    } else {
+        format!("{seconds} s")
     }
 }
 
@@ -104,6 +130,20 @@ pub enum AudioError {
     Malformed { file: PathBuf, message: String },
     #[error("{}: {message}", file.display())]
     Unusable { file: PathBuf, message: String },
+    /// Longer than [`DecodeOptions::max_duration_seconds`].
+    #[error(
+        "{}: is longer than {} ({}), the most Ambit analyses of one recording here; \
+         cut it to the part you need",
+        file.display(),
+        duration_words(*limit_seconds),
+        found
+    )]
+    TooLong {
+        file: PathBuf,
+        limit_seconds: f64,
+        /// What was found: "the header says 10.0 h" or "more was decoded".
+        found: String,
+    },
 }
 
 enum Source {
@@ -131,6 +171,9 @@ pub struct AudioReader {
     input_done: bool,
     done: bool,
     largest_chunk: usize,
+    /// Most source frames accepted (from `max_duration_seconds`).
+    max_source_frames: Option<u64>,
+    max_duration_seconds: Option<f64>,
 }
 
 /// Opens a file for streaming decode. The header is read and checked here
@@ -175,6 +218,29 @@ pub fn open(path: &Path, options: &DecodeOptions) -> Result<AudioReader, AudioEr
         let (rate, channels) = (s.sample_rate, s.channels);
         (Source::Codec(Box::new(s)), rate, channels, FLOAT_CLIP_LEVEL)
     };
+    let max_source_frames = options
+        .max_duration_seconds
+        .map(|seconds| (seconds.max(0.0) * f64::from(rate)).ceil() as u64);
+    // Refused before any decoding when the header gives the length.
+    let promised = match &source {
+        // A WAV's frames as far as the file really holds them (a header
+        // written for a stream may promise 4 GiB).
+        Source::Wav(s) => Some(s.promised_frames.min(s.present_frames)),
+        Source::Codec(s) => s.promised_frames,
+    };
+    if let (Some(limit), Some(frames), Some(limit_seconds)) =
+        (max_source_frames, promised, options.max_duration_seconds)
+        && frames > limit
+    {
+        return Err(AudioError::TooLong {
+            file: path.to_path_buf(),
+            limit_seconds,
+            found: format!(
+                "its header says {}",
+                hours_minutes(frames as f64 / f64::from(rate.max(1)))
+            ),
+        });
+    }
     let sample_rate = options.target_sample_rate.unwrap_or(rate);
     let resampler = if sample_rate == rate {
         None
@@ -205,7 +271,21 @@ pub fn open(path: &Path, options: &DecodeOptions) -> Result<AudioReader, AudioEr
         input_done: false,
         done: false,
         largest_chunk: 0,
+        max_source_frames,
+        max_duration_seconds: options.max_duration_seconds,
     })
+}
+
+/// 2 h 05 min, 12.5 s: a recording's length in words.
+fn hours_minutes(seconds: f64) -> String {
+    if seconds >= 3600.0 {
+        let minutes = (seconds / 60.0).round() as u64;
+        format!("{} h {:02} min", minutes / 60, minutes % 60)
+    } else if seconds >= 60.0 {
+        format!("{:.1} min", seconds / 60.0)
+    } else {
+        format!("{seconds:.1} s")
+    }
 }
 
 fn read_up_to(f: &mut std::fs::File, buf: &mut [u8]) -> std::io::Result<usize> {
@@ -337,6 +417,18 @@ impl AudioReader {
                 continue;
             }
             let channels = usize::from(self.source_channels.max(1));
+            // Refused as soon as decoding passes the limit: no more than the
+            // limit's worth of audio is ever handed on.
+            if let (Some(limit), Some(limit_seconds)) =
+                (self.max_source_frames, self.max_duration_seconds)
+                && self.source_frames + (self.block.len() / channels) as u64 > limit
+            {
+                return Err(AudioError::TooLong {
+                    file: self.path.clone(),
+                    limit_seconds,
+                    found: "found while decoding".into(),
+                });
+            }
             // Integer PCM is always finite: the full scan runs only when a
             // quick vectorised check finds a NaN or infinity.
             if !self.block.iter().all(|x| x.is_finite()) {
@@ -442,6 +534,17 @@ impl AudioReader {
                     ));
                 }
             }
+        }
+        let channel_samples = self.source_frames * u64::from(self.source_channels.max(1));
+        if self.non_finite > 0 && self.non_finite >= channel_samples {
+            return Err(AudioError::Unusable {
+                file: self.path.clone(),
+                message: format!(
+                    "holds no audio: every one of its {} samples is not a number (NaN or \
+                     infinite); the file is damaged",
+                    self.non_finite
+                ),
+            });
         }
         if let Some(frame) = self.first_non_finite_frame {
             warnings.push(format!(

@@ -523,8 +523,11 @@ pub fn run(arguments: LibraryArgs) -> anyhow::Result<()> {
         } => {
             let mut library = open(&folder)?;
             let read_json = |path: &Path| -> anyhow::Result<serde_json::Value> {
-                let text = std::fs::read(path)
-                    .with_context(|| format!("{}: cannot read", path.display()))?;
+                let text = ambit::input::read_bounded(
+                    path,
+                    ambit::input::MAX_JSON_BYTES,
+                    "JSON documents",
+                )?;
                 serde_json::from_slice(&text)
                     .with_context(|| format!("{}: not JSON", path.display()))
             };

@@ -9,15 +9,16 @@
 //!   tracks (120 per quarter until the first Set Tempo, the SMF default), or
 //!   SMPTE ticks per second converted to seconds directly;
 //! - note-on with velocity 0 is a note-off; overlapping notes of one pitch on
-//!   one channel are paired first-in, first-out; a note never released is
-//!   closed at the end of its track with a warning;
+//!   one channel are paired first-in, first-out; a note never released (a
+//!   stray note-on) is dropped with a warning naming its track and pitch;
 //! - parts are the tracks that have notes (format 1) or the channels of the
 //!   single track (format 0); channel 10 (percussion) is skipped;
 //! - time signatures give measures numbered 1, 2, 3 … from the first tick.
 //!
 //! Architecture invariant: the reader turns bytes into a [`Piece`] and nothing
 //! else. It never panics on input, and its memory is bounded by
-//! [`MAX_MIDI_EVENTS`], [`MAX_MIDI_NOTES`] and [`MAX_MIDI_MEASURES`].
+//! [`MAX_MIDI_TRACKS`], [`MAX_MIDI_EVENTS`], [`MAX_MIDI_NOTES`] and
+//! [`MAX_MIDI_MEASURES`].
 
 use std::collections::{HashMap, VecDeque};
 use std::path::Path;
@@ -41,6 +42,11 @@ pub const MAX_MIDI_MEASURES: usize = 200_000;
 const DEFAULT_MICROSECONDS_PER_QUARTER: u32 = 500_000;
 /// Channel 10 in the 1-based numbering of General MIDI, the percussion channel.
 const PERCUSSION_CHANNEL: u8 = 9;
+/// Most track chunks read from one file. A full orchestral score has well
+/// under a hundred; the header can declare at most 65 535, and a file may
+/// hold more chunks than it declares. Each track costs memory before its
+/// events are read, so the count is capped on its own.
+pub const MAX_MIDI_TRACKS: usize = 1024;
 /// Hanging-note warnings listed one by one before they are summarised.
 const MAX_LISTED_WARNINGS: usize = 20;
 /// Names longer than this are cut (a track name is a label, not a payload).
@@ -180,7 +186,7 @@ impl Reader<'_> {
         }
         if self.hanging_notes > MAX_LISTED_WARNINGS {
             self.warnings.push(format!(
-                "{} more notes were never released and were closed at the end of their track",
+                "{} more notes were never released and were dropped as stray note-ons",
                 self.hanging_notes - MAX_LISTED_WARNINGS
             ));
         }
@@ -381,6 +387,13 @@ impl Reader<'_> {
                 ));
             }
             if is_track {
+                if chunks.len() >= MAX_MIDI_TRACKS {
+                    return Err(self.too_large(format!(
+                        "more than {MAX_MIDI_TRACKS} tracks (track {} starts at byte {file_offset}); \
+                         a score has at most a few dozen",
+                        chunks.len() + 1
+                    )));
+                }
                 chunks.push((base_offset + start as u64, &smf[start..start + length]));
             }
             offset = start + length;
@@ -559,40 +572,24 @@ impl Reader<'_> {
         }
         track.end_tick = tick;
 
-        // Notes never released: closed at the end of the track, oldest first.
-        let mut hanging: Vec<((u8, u8), u64, u8)> = open
+        // Notes never released are stray note-ons: dropped, as pretty_midi
+        // drops them. Closing them at the end of the track (as Ambit once
+        // did) made notes of minutes that doubled a part's sung time and
+        // turned a sung line into "accompaniment".
+        let mut hanging: Vec<((u8, u8), u64)> = open
             .into_iter()
-            .flat_map(|(key, queue)| {
-                queue
-                    .into_iter()
-                    .map(move |(start, velocity)| (key, start, velocity))
-            })
+            .flat_map(|(key, queue)| queue.into_iter().map(move |(start, _)| (key, start)))
             .collect();
-        hanging.sort_by_key(|&((channel, key), start, _)| (start, channel, key));
-        for ((channel, key), start_tick, velocity) in hanging {
+        hanging.sort_by_key(|&((channel, key), start)| (start, channel, key));
+        for ((channel, key), start_tick) in hanging {
             self.hanging_notes += 1;
             if self.hanging_notes <= MAX_LISTED_WARNINGS {
                 self.warnings.push(format!(
                     "track {number}: note {} (MIDI {key}) on channel {} from tick {start_tick} \
-                     was never released; closed at the end of the track (tick {tick})",
+                     was never released; dropped as a stray note-on (the track ends at tick {tick})",
                     midi_name(i32::from(key)),
                     channel + 1
                 ));
-            }
-            if start_tick < tick {
-                let end_offset = data_offset + data.len() as u64;
-                self.push_note(
-                    &mut track,
-                    gathered,
-                    TickNote {
-                        start_tick,
-                        end_tick: tick,
-                        key,
-                        channel,
-                        velocity,
-                    },
-                    end_offset,
-                )?;
             }
         }
         gathered.tracks.push(track);

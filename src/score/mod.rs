@@ -238,21 +238,18 @@ pub fn musicxml_excerpt(
     musicxml::excerpt_bytes(path, &read_limited(path)?, part, first_bar, last_bar)
 }
 
-/// A score file's bytes, refusing files over [`MAX_SCORE_BYTES`] before reading.
+/// A score file's bytes, through the byte budget of [`crate::input`]
+/// (at most [`MAX_SCORE_BYTES`], whatever length the file reports).
 fn read_limited(path: &Path) -> Result<Vec<u8>, ScoreError> {
-    let io_error = |source| ScoreError::Io {
-        file: path.to_path_buf(),
-        source,
-    };
-    let length = std::fs::metadata(path).map_err(io_error)?.len();
-    if length > MAX_SCORE_BYTES {
-        return Err(ScoreError::TooLarge {
-            file: path.to_path_buf(),
-            message: format!("{length} bytes; Ambit reads scores up to {MAX_SCORE_BYTES} bytes"),
-        });
-    }
-    let bytes = std::fs::read(path).map_err(io_error)?;
-    Ok(bytes)
+    crate::input::read_bounded(path, MAX_SCORE_BYTES, "scores").map_err(|error| match error {
+        crate::input::InputError::Io { file, source } => ScoreError::Io { file, source },
+        crate::input::InputError::TooLarge { file, budget, what } => ScoreError::TooLarge {
+            file,
+            message: crate::input::too_large_message(budget, what)
+                .trim_start_matches("too large: ")
+                .to_string(),
+        },
+    })
 }
 
 /// Reads a score already in memory; `path` is used for messages only.

@@ -534,22 +534,6 @@ pub fn track_samples(
     Ok(track_checked(&plan, samples, plan.low_pass()))
 }
 
-/// [`track_samples`] on a signal the caller gives up: the low-pass runs in
-/// place over the whole signal (the same causal pass, sample for sample, so
-/// the frames are identical) instead of into a copy.
-fn track_owned(
-    mut samples: Vec<f32>,
-    sample_rate: u32,
-    config: &TrackConfig,
-) -> Result<Track, TrackError> {
-    let plan = Plan::new(sample_rate, config)?;
-    check_samples(&samples, sample_rate)?;
-    if let Some(mut low_pass) = plan.low_pass() {
-        low_pass.process(&mut samples);
-    }
-    Ok(track_checked(&plan, &samples, None))
-}
-
 /// The offline tracker over checked samples; `low_pass`, when given, is run
 /// over the signal round by round into a buffer of its own.
 fn track_checked(plan: &Plan, samples: &[f32], mut low_pass: Option<filter::LowPass>) -> Track {
@@ -747,13 +731,77 @@ impl StreamingTracker {
             low_pass.process(&mut self.buffer[first_new..]);
         }
         self.received += samples.len() as i64;
-        // Analyse every frame whose samples have all arrived.
+        // Analyse every frame whose samples have all arrived: many at once
+        // in parallel (a file read in batches), a few one by one (a
+        // microphone). The frames are the same either way.
         let length = self.plan.layout.frame_samples as i64;
-        while self.plan.frame_start(self.next_frame) + length <= self.received {
+        let mut ready = self.next_frame;
+        while self.plan.frame_start(ready) + length <= self.received {
+            ready += 1;
+        }
+        if ready - self.next_frame >= 2 * BLOCK_FRAMES {
+            self.analyse_in_parallel(ready, &mut out);
+        }
+        while self.next_frame < ready {
             self.analyse_next(i64::MAX, &mut out);
         }
         self.discard_consumed();
         out
+    }
+
+    /// Analyses frames `next_frame..ready` (all inside the buffer) in
+    /// parallel blocks, then decides them in order.
+    fn analyse_in_parallel(&mut self, ready: usize, out: &mut Vec<Frame>) {
+        let plan = self.plan;
+        let (buffer, buffer_start) = (&self.buffer[..], self.buffer_start);
+        let first = self.next_frame;
+        let analysed: Vec<(Vec<Observation>, Vec<Candidate>, Vec<usize>)> = (first..ready)
+            .step_by(BLOCK_FRAMES)
+            .collect::<Vec<usize>>()
+            .into_par_iter()
+            .map_init(
+                || {
+                    (
+                        FrameAnalyser::new(plan.layout),
+                        vec![0.0f32; plan.layout.frame_samples],
+                    )
+                },
+                |(analyser, frame), start| {
+                    let end = (start + BLOCK_FRAMES).min(ready);
+                    let mut observations = Vec::with_capacity(end - start);
+                    let mut candidates = Vec::new();
+                    let mut bounds = Vec::with_capacity(end - start + 1);
+                    bounds.push(0);
+                    for index in start..end {
+                        let samples =
+                            match inner_frame(&plan, index, buffer, buffer_start, i64::MAX) {
+                                Some(samples) => samples,
+                                None => {
+                                    fill_frame(&plan, index, buffer, buffer_start, i64::MAX, frame);
+                                    &frame[..]
+                                }
+                            };
+                        observations.push(observe(&plan, analyser, samples, &mut candidates));
+                        bounds.push(candidates.len());
+                    }
+                    (observations, candidates, bounds)
+                },
+            )
+            .collect();
+        let mut index = first;
+        for (observations, candidates, bounds) in &analysed {
+            for (position, observation) in observations.iter().enumerate() {
+                let range = bounds[position]..bounds[position + 1];
+                self.provisional = Some(self.decision.push(
+                    plan.frame_time(index),
+                    observation,
+                    &candidates[range],
+                    out,
+                ));
+                index += 1;
+            }
+        }
+        self.next_frame = ready;
     }
 
     /// Ends the stream: analyses the last frames (zeros after the end) and
@@ -832,31 +880,61 @@ pub enum TrackFileError {
     },
 }
 
-/// Decodes `path` at [`ANALYSIS_SAMPLE_RATE`] and tracks it.
+/// Longest recording [`track_file`] reads: 4 hours. Samples are streamed
+/// (never held whole); the frames are kept, about 17 MB an hour.
+pub const MAX_TRACK_FILE_SECONDS: f64 = 4.0 * 3600.0;
+
+/// Decoded audio handed to the tracker in batches of this many seconds, so
+/// the frames of one batch are analysed in parallel.
+const TRACK_FILE_BATCH_SECONDS: usize = 10;
+
+/// Decodes `path` at [`ANALYSIS_SAMPLE_RATE`] and tracks it, streaming: the
+/// decoder's chunks go to a [`StreamingTracker`] in batches of a few
+/// seconds, so memory holds one batch and the frames, whatever the file's
+/// length (up to [`MAX_TRACK_FILE_SECONDS`]). The frames are those of
+/// [`track_samples`] on the whole decoded signal.
 pub fn track_file(path: &Path, config: &TrackConfig) -> Result<TrackedFile, TrackFileError> {
-    // A bad configuration is reported before any decoding work.
-    validate(ANALYSIS_SAMPLE_RATE, config).map_err(|source| TrackFileError::Track {
+    let track_error = |source| TrackFileError::Track {
         file: path.to_path_buf(),
         source,
-    })?;
-    let decoded = audio::decode_file(
+    };
+    // A bad configuration is reported before any decoding work.
+    validate(ANALYSIS_SAMPLE_RATE, config).map_err(track_error)?;
+    let mut reader = audio::open(
         path,
         &DecodeOptions {
             target_sample_rate: Some(ANALYSIS_SAMPLE_RATE),
+            max_duration_seconds: Some(MAX_TRACK_FILE_SECONDS),
         },
     )?;
-    let track = track_owned(decoded.samples, decoded.sample_rate, config).map_err(|source| {
-        TrackFileError::Track {
-            file: path.to_path_buf(),
-            source,
+    let sample_rate = reader.sample_rate();
+    let mut tracker = StreamingTracker::new(sample_rate, config).map_err(track_error)?;
+    let batch_samples = sample_rate as usize * TRACK_FILE_BATCH_SECONDS;
+    let mut batch: Vec<f32> = Vec::with_capacity(batch_samples + 8192);
+    let mut frames = Vec::new();
+    while let Some(chunk) = reader.next_chunk()? {
+        batch.extend_from_slice(&chunk);
+        if batch.len() >= batch_samples {
+            frames.extend(tracker.push(&batch));
+            batch.clear();
         }
-    })?;
+    }
+    frames.extend(tracker.push(&batch));
+    drop(batch);
+    frames.extend(tracker.finish());
+    let source_sample_rate = reader.source_sample_rate();
+    let duration_seconds = reader.source_frames() as f64 / f64::from(source_sample_rate.max(1));
+    let report = reader.finish()?;
     Ok(TrackedFile {
         file: path.to_path_buf(),
-        duration_seconds: decoded.duration_seconds,
-        source_sample_rate: decoded.source_sample_rate,
-        report: decoded.report,
-        track,
+        duration_seconds,
+        source_sample_rate,
+        report,
+        track: Track {
+            sample_rate,
+            hop_seconds: config.hop_seconds,
+            frames,
+        },
     })
 }
 

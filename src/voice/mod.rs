@@ -37,6 +37,12 @@ use types::{Evidence, VoiceType, classify, rank_sections};
 
 /// Sample rate recordings are analysed at.
 pub const PROFILE_SAMPLE_RATE: u32 = audio::ANALYSIS_SAMPLE_RATE;
+/// Longest recording of one audition task: 30 minutes, many times the
+/// longest task (a song of a few minutes). A longer file is refused before
+/// it is decoded when its header gives the length, and as soon as decoding
+/// passes 30 minutes otherwise, so one task holds at most about 160 MB of
+/// samples.
+pub const MAX_TASK_SECONDS: f64 = 30.0 * 60.0;
 
 /// The audition tasks.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, Hash, PartialOrd, Ord, Serialize, Deserialize)]
@@ -275,6 +281,7 @@ pub fn load_recording(task: Task, path: &Path) -> Result<Recording, VoiceError> 
         path,
         &DecodeOptions {
             target_sample_rate: Some(PROFILE_SAMPLE_RATE),
+            max_duration_seconds: Some(MAX_TASK_SECONDS),
         },
     )
     .map_err(|error| load_error(format!("{} task: {error}", task.label())))?;

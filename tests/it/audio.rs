@@ -19,6 +19,7 @@ fn data(name: &str) -> PathBuf {
 
 const NATIVE: DecodeOptions = DecodeOptions {
     target_sample_rate: None,
+    max_duration_seconds: Some(ambit::audio::MAX_DECODE_SECONDS),
 };
 
 /// Frequency of the strongest spectral peak, Hz: Hann window, zero-padding to

@@ -67,6 +67,7 @@ fn assert_message(e: &AudioError, path: &Path, words: &str) {
 
 const NATIVE: DecodeOptions = DecodeOptions {
     target_sample_rate: None,
+    max_duration_seconds: Some(ambit::audio::MAX_DECODE_SECONDS),
 };
 
 #[test]
@@ -313,6 +314,30 @@ fn nan_and_infinite_samples_are_replaced_with_a_warning() {
     );
 }
 
+/// A float WAV where every sample is NaN holds no audio: it is named as
+/// damaged, not as silent (issue 17: it was called "silent (every sample is
+/// zero)", the zeros being the NaNs' replacements).
+#[test]
+fn all_nan_audio_is_damaged_not_silent() {
+    let dir = tempfile::tempdir().expect("tempdir");
+    let path = dir.path().join("all-nan.wav");
+    let spec = hound::WavSpec {
+        channels: 2,
+        sample_rate: 16_000,
+        bits_per_sample: 32,
+        sample_format: hound::SampleFormat::Float,
+    };
+    let mut w = hound::WavWriter::create(&path, spec).expect("create");
+    for _ in 0..2 * 16_000 {
+        w.write_sample(f32::NAN).expect("write");
+    }
+    w.finalize().expect("finalize");
+    let e = decode_file(&path, &NATIVE).expect_err("no audio");
+    assert!(matches!(e, AudioError::Unusable { .. }), "{e:?}");
+    assert_message(&e, &path, "every one of its 32000 samples is not a number");
+    assert!(!e.to_string().contains("silent"), "{e}");
+}
+
 #[test]
 fn silence_is_unusable() {
     let dir = tempfile::tempdir().expect("tempdir");
@@ -479,7 +504,12 @@ fn two_hour_file_streams_in_bounded_memory() {
         w.finalize().expect("finalize");
     }
     let before = vm_rss_kib();
-    let mut reader = audio::open(&path, &DecodeOptions::default()).expect("open");
+    // Streaming holds no more for a longer file, so no duration limit.
+    let streaming = DecodeOptions {
+        max_duration_seconds: None,
+        ..DecodeOptions::default()
+    };
+    let mut reader = audio::open(&path, &streaming).expect("open");
     let capacity_after_first = {
         let first = reader.next_chunk().expect("chunk").expect("some");
         assert!(!first.is_empty());

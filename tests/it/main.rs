@@ -15,6 +15,7 @@ mod cli_pipe;
 mod demo_choir;
 mod divisi_cli;
 mod fit;
+mod input_bounds;
 mod library;
 mod library_cli_flow;
 mod library_crash;

@@ -162,29 +162,34 @@ fn overlapping_notes_of_one_pitch_pair_first_in_first_out() {
 }
 
 #[test]
-fn a_note_never_released_is_closed_at_the_end_of_its_track_with_a_warning() {
-    // E4 sounds from tick 480 and is never released; the track ends at tick
-    // 1920: (1920 − 480)/480 = 3 quarters = 1.5 s at 500 000 µs per quarter.
+fn a_note_never_released_is_dropped_with_a_warning() {
+    // E4 is struck at tick 480 and never released; D4 (ticks 0–480) is a
+    // whole note-on/off pair. The stray E4 is dropped (pretty_midi drops it
+    // too: it makes a note only at a note-off), and a warning names it.
     let tenor = Track::new()
         .name(0, "Tenor")
-        .note_on(480, 0, 64, 64)
+        .note_on(0, 0, 62, 64)
+        .note_off(480, 0, 62)
+        .note_on(0, 0, 64, 64)
         .end(1440);
     let piece = read_ok(&smf(
         1,
         480,
         &[Track::new().tempo(0, 500_000).end(0), tenor],
     ));
-    let note = &piece.parts[0].notes[0];
-    assert_close(note.onset_seconds, 0.5, "onset");
-    assert_close(note.duration_seconds, 1.5, "duration");
+    let notes = &piece.parts[0].notes;
+    assert_eq!(notes.len(), 1, "only the released D4 is kept: {notes:?}");
+    assert_eq!(notes[0].midi, 62.0);
+    assert_close(notes[0].duration_seconds, 0.5, "D4 duration");
     let warning = piece
         .warnings
         .iter()
         .find(|warning| warning.contains("never released"))
-        .expect("a hanging-note warning");
+        .expect("a stray-note warning");
     assert!(warning.contains("track 2"), "{warning}");
     assert!(warning.contains("E4"), "{warning}");
     assert!(warning.contains("tick 480"), "{warning}");
+    assert!(warning.contains("dropped"), "{warning}");
 }
 
 #[test]

@@ -11,6 +11,9 @@
 //!   disagrees exactly where a later track sets the tempo.
 //! - pretty_midi closes *every* open note of a pitch at one note-off; Ambit
 //!   pairs note-ons and note-offs first-in, first-out.
+//!
+//! Stray note-ons (never released) are dropped by both; a test puts them in
+//! voice parts and checks the same notes and the same part kinds.
 
 use crate::common;
 use crate::smf_builder;
@@ -71,6 +74,18 @@ impl Timeline {
 /// One seeded file: a conductor track with tempo changes, then `voices`
 /// tracks of legato lines with some chords, some of which also change tempo.
 fn random_file(seed: u64, ticks_per_quarter: u16, voices: usize) -> Vec<u8> {
+    seeded_file(seed, ticks_per_quarter, voices, false)
+}
+
+/// As [`random_file`], but every line is a sung line on program 0 (Acoustic
+/// Grand Piano, the program some MIDI writers give every part) with stray
+/// note-ons: two pitches above the line (84 and 88, which no line reaches)
+/// struck early and never released, as in the files of issue 17.
+fn file_with_strays(seed: u64, ticks_per_quarter: u16, voices: usize) -> Vec<u8> {
+    seeded_file(seed, ticks_per_quarter, voices, true)
+}
+
+fn seeded_file(seed: u64, ticks_per_quarter: u16, voices: usize, strays: bool) -> Vec<u8> {
     let mut random = Random(seed);
     let ppq = u64::from(ticks_per_quarter);
     let length = ppq * 64;
@@ -88,7 +103,13 @@ fn random_file(seed: u64, ticks_per_quarter: u16, voices: usize) -> Vec<u8> {
     for voice in 0..voices {
         let channel = voice as u8; // 0.. (never 9)
         let mut line = Timeline::default();
-        line.push(0, 0, vec![0xC0 | channel, random.below(80) as u8]);
+        let program = if strays { 0 } else { random.below(80) as u8 };
+        line.push(0, 0, vec![0xC0 | channel, program]);
+        if strays {
+            for key in [84u8, 88] {
+                line.push(ppq + random.below(ppq), 1, vec![0x90 | channel, key, 70]);
+            }
+        }
         // One or two tempo changes on this note track (SMF 1.0 allows it).
         for _ in 0..=random.below(2) {
             let tick = random.below(length);
@@ -320,4 +341,58 @@ fn overlapping_notes_of_one_pitch_differ_from_pretty_midi_as_documented() {
     assert_eq!(their_ends.values().copied().collect::<Vec<_>>(), [0.5, 0.5]);
     // Ambit (FIFO): the first note ends at 0.5 s, the second at 1.0 s.
     assert_eq!(our_ends.values().copied().collect::<Vec<_>>(), [0.5, 1.0]);
+}
+
+#[test]
+fn stray_note_ons_are_dropped_as_pretty_midi_drops_them_and_never_decide_a_voice() {
+    let Some(python) = common::reference_python("pretty_midi stray note-ons") else {
+        return;
+    };
+    let directory = tempfile::tempdir().expect("a temporary directory");
+    let cases = [(11u64, 480u16, 3usize), (12, 96, 2), (13, 960, 4)];
+    let mut paths = Vec::new();
+    for (seed, ppq, voices) in cases {
+        let path = directory.path().join(format!("strays{seed}_ppq{ppq}.mid"));
+        std::fs::write(&path, file_with_strays(seed, ppq, voices)).expect("write the file");
+        paths.push(path);
+    }
+    let arguments: Vec<&str> = paths
+        .iter()
+        .map(|path| path.to_str().expect("a UTF-8 temporary path"))
+        .collect();
+    let report = common::run_reference(&python, "pretty_midi_timing.py", &arguments);
+    let files = report["files"].as_array().expect("files");
+    for ((path, file), (_, _, voices)) in paths.iter().zip(files).zip(cases) {
+        // pretty_midi 0.2.11 makes a note only at a note-off, so the strays
+        // are absent from its notes; Ambit must give the very same notes.
+        let ours = ambit_notes(path);
+        let theirs = reference_notes(&file["notes"]);
+        assert!(
+            theirs.iter().all(|note| note.1 < 84),
+            "{}: pretty_midi kept a stray",
+            path.display()
+        );
+        assert_eq!(
+            max_difference(&ours, &theirs).map(|worst| worst < 1e-6),
+            Some(true),
+            "{}: Ambit's notes differ from pretty_midi's",
+            path.display()
+        );
+        // Every line is a sung line: the strays (which, kept to the end of
+        // the track, made three notes sound at once on a piano program) do
+        // not turn any into accompaniment; each stray is named.
+        let piece = read_score(path, &ReadOptions::default()).expect("readable");
+        assert_eq!(piece.voice_parts().count(), voices, "{}", path.display());
+        let strays: Vec<&String> = piece
+            .warnings
+            .iter()
+            .filter(|warning| warning.contains("never released") && warning.contains("dropped"))
+            .collect();
+        assert_eq!(strays.len(), 2 * voices, "{:?}", piece.warnings);
+        assert!(
+            strays
+                .iter()
+                .any(|warning| warning.contains("C6 (MIDI 84)"))
+        );
+    }
 }

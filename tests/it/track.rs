@@ -382,16 +382,20 @@ fn streaming_gives_the_offline_frames_exactly_over_a_long_signal() {
     let config = TrackConfig::default();
     let offline = track::track_samples(&samples, 22_050, &config).expect("offline");
     assert_eq!(offline.frames.len(), 17_000);
-    let mut tracker = StreamingTracker::new(22_050, &config).expect("a valid config");
-    let mut streamed = Vec::new();
-    for piece in samples.chunks(4_410) {
-        streamed.extend(tracker.push(piece));
+    // Chunks of 0.2 s are analysed frame by frame; chunks of 10 s (as
+    // `track_file` pushes them) in parallel blocks.
+    for chunk in [4_410, 220_500] {
+        let mut tracker = StreamingTracker::new(22_050, &config).expect("a valid config");
+        let mut streamed = Vec::new();
+        for piece in samples.chunks(chunk) {
+            streamed.extend(tracker.push(piece));
+        }
+        streamed.extend(tracker.finish());
+        assert!(
+            streamed == offline.frames,
+            "streamed (chunks of {chunk}) and offline frames differ"
+        );
     }
-    streamed.extend(tracker.finish());
-    assert!(
-        streamed == offline.frames,
-        "streamed and offline frames differ"
-    );
 }
 
 #[test]

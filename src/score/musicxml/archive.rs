@@ -98,17 +98,40 @@ fn read_entry(
     index: usize,
     budget: &mut u64,
 ) -> Result<Vec<u8>, ScoreError> {
-    let mut entry = archive
-        .by_index(index)
-        .map_err(|error| ScoreError::Malformed {
+    let mut entry = archive.by_index(index).map_err(|error| match error {
+        zip::result::ZipError::UnsupportedArchive(what) => ScoreError::Unsupported {
+            file: path.to_path_buf(),
+            location: Location::ZipEntry(format!("#{index}")),
+            message: format!("the archive entry uses a zip feature Ambit does not read: {what}"),
+        },
+        error => ScoreError::Malformed {
             file: path.to_path_buf(),
             location: Location::ZipEntry(format!("#{index}")),
             message: format!("cannot open the archive entry: {error}"),
-        })?;
+        },
+    })?;
     let name = entry
         .name()
         .map(|name| name.into_owned())
         .unwrap_or_else(|_| format!("#{index}"));
+    // MusicXML 4.0, "Compressed MusicXML files": entries are deflated or
+    // stored. Anything else (bzip2, LZMA, Zstandard…) is named as such, not
+    // mistaken for damage.
+    let method = entry.compression();
+    if !matches!(
+        method,
+        zip::CompressionMethod::Stored | zip::CompressionMethod::Deflated
+    ) {
+        return Err(ScoreError::Unsupported {
+            file: path.to_path_buf(),
+            location: Location::ZipEntry(name),
+            message: format!(
+                "the archive entry uses {method:?} compression; Ambit reads .mxl entries that \
+                 are deflated or stored (as MusicXML specifies): re-save the file from the \
+                 notation program"
+            ),
+        });
+    }
     let compressed = entry.compressed_size().max(1);
     let mut bytes = Vec::new();
     // One byte over the budget tells "exactly at the limit" from "beyond it".
@@ -152,8 +175,9 @@ fn root_file(path: &Path, container: &[u8]) -> Result<String, ScoreError> {
     };
     let text = std::str::from_utf8(container.strip_prefix(b"\xEF\xBB\xBF").unwrap_or(container))
         .map_err(|error| malformed(format!("not UTF-8 at byte {}", error.valid_up_to())))?;
-    super::prescan::prescan(text.as_bytes())
-        .map_err(|_| malformed("nested too deeply or declares entities".into()))?;
+    super::prescan::prescan(text.as_bytes()).map_err(|_| {
+        malformed("nested too deeply, or has a DOCTYPE internal subset (entities)".into())
+    })?;
     let options = roxmltree::ParsingOptions {
         allow_dtd: true,
         nodes_limit: 100_000,

@@ -77,6 +77,13 @@ fn with_document<T>(
                  (refused to rule out entity-expansion attacks)"
                     .to_string(),
             ),
+            prescan::PrescanError::InternalSubset { offset } => (
+                offset,
+                "the DOCTYPE has an internal subset ([…]), where XML entities are \
+                 declared; MusicXML never needs one (refused to rule out \
+                 entity-expansion attacks)"
+                    .to_string(),
+            ),
         };
         ScoreError::Malformed {
             file: path.to_path_buf(),
@@ -86,7 +93,8 @@ fn with_document<T>(
     })?;
     let parse_options = roxmltree::ParsingOptions {
         // MusicXML files carry a DOCTYPE naming the public DTD. roxmltree
-        // never fetches external DTDs; entity declarations were refused above.
+        // never fetches external DTDs; internal subsets (where entities
+        // are declared) were refused above.
         allow_dtd: true,
         nodes_limit: MAX_XML_NODES,
         ..roxmltree::ParsingOptions::default()

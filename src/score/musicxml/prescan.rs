@@ -8,6 +8,13 @@
 //! than about a dozen levels, and never declares entities (its DOCTYPE only
 //! names the public DTD), so both are refused here, before any tree exists.
 //!
+//! A DOCTYPE with an internal subset (`<!DOCTYPE x [ … ]>`) is refused whole,
+//! whatever it holds. Looking inside it for `<!ENTITY` is not enough: the
+//! subset's grammar (processing instructions, comments, parameter-entity
+//! references, quoted literals) can hide a declaration from any scan short of
+//! a full DTD parser, e.g. between two processing instructions whose quotes
+//! pair up, and MusicXML files have no use for a subset.
+//!
 //! Invariant: the scan is linear in the input and allocates nothing; it never
 //! decides well-formedness (the parser does that), only the two limits.
 
@@ -18,8 +25,16 @@ pub const MAX_NESTING_DEPTH: usize = 64;
 /// Why the scan refused a document, with the byte offset of the offending tag.
 #[derive(Debug, Clone, PartialEq, Eq)]
 pub enum PrescanError {
-    TooDeep { offset: usize },
-    EntityDeclaration { offset: usize },
+    TooDeep {
+        offset: usize,
+    },
+    EntityDeclaration {
+        offset: usize,
+    },
+    /// `offset` is the `[` that opens the subset.
+    InternalSubset {
+        offset: usize,
+    },
 }
 
 /// Checks nesting depth and entity declarations. Malformed markup is left
@@ -87,11 +102,17 @@ fn skip_tag(text: &[u8], from: usize) -> (usize, bool) {
     (text.len(), false)
 }
 
-/// Skips `<!DOCTYPE …>` (with an internal subset) or any other `<!…>`
-/// declaration, refusing `<!ENTITY` anywhere inside it.
+/// Skips `<!DOCTYPE …>` or any other `<!…>` declaration, honouring the
+/// quoted public and system literals. An internal subset (`[` outside a
+/// literal) is refused, and so is a top-level `<!ENTITY`.
 fn skip_declaration(text: &[u8], start: usize) -> Result<usize, PrescanError> {
+    if text
+        .get(start..)
+        .is_some_and(|rest| rest.starts_with(b"<!ENTITY"))
+    {
+        return Err(PrescanError::EntityDeclaration { offset: start });
+    }
     let mut quote: Option<u8> = None;
-    let mut bracket_depth = 0usize;
     let mut index = start + 2;
     while let Some(&byte) = text.get(index) {
         match quote {
@@ -99,22 +120,8 @@ fn skip_declaration(text: &[u8], start: usize) -> Result<usize, PrescanError> {
             Some(_) => {}
             None => match byte {
                 b'"' | b'\'' => quote = Some(byte),
-                b'[' => bracket_depth += 1,
-                b']' => bracket_depth = bracket_depth.saturating_sub(1),
-                b'<' if text
-                    .get(index..)
-                    .is_some_and(|rest| rest.starts_with(b"<!--")) =>
-                {
-                    index = skip_past(text, index + 4, b"-->");
-                    continue;
-                }
-                b'<' if text
-                    .get(index..)
-                    .is_some_and(|rest| rest.starts_with(b"<!ENTITY")) =>
-                {
-                    return Err(PrescanError::EntityDeclaration { offset: index });
-                }
-                b'>' if bracket_depth == 0 => return Ok(index + 1),
+                b'[' => return Err(PrescanError::InternalSubset { offset: index }),
+                b'>' => return Ok(index + 1),
                 _ => {}
             },
         }
@@ -147,7 +154,30 @@ mod tests {
         let entity = br#"<!DOCTYPE s [<!ENTITY lol "lol">]><s>&lol;</s>"#;
         assert_eq!(
             prescan(entity),
-            Err(PrescanError::EntityDeclaration { offset: 13 })
+            Err(PrescanError::InternalSubset { offset: 12 })
         );
+        assert_eq!(
+            prescan(b"<!ENTITY lol 'lol'><s/>"),
+            Err(PrescanError::EntityDeclaration { offset: 0 })
+        );
+    }
+
+    #[test]
+    fn an_entity_hidden_between_processing_instructions_is_refused() {
+        // The quotes of the two processing instructions pair up, so a scan
+        // that treats them as literals never sees the declaration between
+        // them (issue 17); the subset itself is refused at its `[`.
+        let hidden = br#"<!DOCTYPE s [<?a '?><!ENTITY x "xxxxxxxx"><?b '?>]><s>&x;</s>"#;
+        assert_eq!(
+            prescan(hidden),
+            Err(PrescanError::InternalSubset { offset: 12 })
+        );
+        // An empty subset is refused too: there is no safe subset to allow.
+        assert_eq!(
+            prescan(b"<!DOCTYPE s []><s/>"),
+            Err(PrescanError::InternalSubset { offset: 12 })
+        );
+        // A '[' inside the system literal is part of the literal.
+        assert_eq!(prescan(br#"<!DOCTYPE s SYSTEM "dtd[1].dtd"><s/>"#), Ok(()));
     }
 }

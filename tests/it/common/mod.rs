@@ -148,3 +148,54 @@ pub fn in_own_process(test: &str) -> bool {
     assert!(status.success(), "{test} failed in its own process");
     false
 }
+
+/// What one measured run of the `ambit` binary gave.
+pub struct MeasuredRun {
+    pub success: bool,
+    pub stdout: String,
+    pub stderr: String,
+    /// The child's peak resident memory (`ru_maxrss` from `wait4`), KiB.
+    pub peak_rss_kib: u64,
+}
+
+/// Runs the `ambit` binary and reads its own peak resident memory from the
+/// kernel when it exits (`wait4`'s `rusage` covers that child alone, unlike
+/// `getrusage(RUSAGE_CHILDREN)`, which would mix in the children of tests
+/// running alongside). A benchmark-style bound, not a timing.
+#[cfg(target_os = "linux")]
+pub fn run_ambit_measured(arguments: &[&str]) -> MeasuredRun {
+    use std::io::Read;
+    use std::process::Stdio;
+    let mut child = Command::new(ambit_binary())
+        .args(arguments)
+        .stdin(Stdio::null())
+        .stdout(Stdio::piped())
+        .stderr(Stdio::piped())
+        .spawn()
+        .expect("the ambit binary runs");
+    let drain = |mut pipe: Box<dyn Read + Send>| {
+        std::thread::spawn(move || {
+            let mut text = Vec::new();
+            let _ = pipe.read_to_end(&mut text);
+            String::from_utf8_lossy(&text).into_owned()
+        })
+    };
+    let stdout = drain(Box::new(child.stdout.take().expect("stdout")));
+    let stderr = drain(Box::new(child.stderr.take().expect("stderr")));
+    let pid = child.id() as libc::pid_t;
+    let mut status = 0;
+    // SAFETY: rusage is plain data, zeroed is a valid value; wait4 fills it.
+    let mut usage: libc::rusage = unsafe { std::mem::zeroed() };
+    // SAFETY: `pid` is our own child, not yet waited for (std's Child is
+    // never waited on afterwards; dropping it does not wait).
+    let waited = unsafe { libc::wait4(pid, &mut status, 0, &mut usage) };
+    assert_eq!(waited, pid, "wait4 on the ambit child");
+    drop(child);
+    MeasuredRun {
+        success: libc::WIFEXITED(status) && libc::WEXITSTATUS(status) == 0,
+        stdout: stdout.join().expect("stdout reader"),
+        stderr: stderr.join().expect("stderr reader"),
+        // Linux reports ru_maxrss in KiB.
+        peak_rss_kib: u64::try_from(usage.ru_maxrss).unwrap_or(0),
+    }
+}
