@@ -16,6 +16,7 @@
 
 pub mod notes;
 pub mod registers;
+mod stages;
 pub mod timbre;
 pub mod types;
 
@@ -392,11 +393,6 @@ pub fn recording_quality(recording: &Recording) -> RecordingQuality {
 }
 
 /// Notes of one recording with the recording they came from.
-struct Analysed<'a> {
-    recording: &'a Recording,
-    notes: Vec<SungNote>,
-}
-
 fn weighted_percentile(mut items: Vec<(f64, f64)>, p: f64) -> Option<f64> {
     items.sort_by(|a, b| a.0.total_cmp(&b.0));
     let total: f64 = items.iter().map(|(_, w)| w).sum();
@@ -413,427 +409,35 @@ fn weighted_percentile(mut items: Vec<(f64, f64)>, p: f64) -> Option<f64> {
     items.last().map(|(value, _)| *value)
 }
 
-/// Builds a profile from an audition's recordings.
+/// Builds a profile from an audition's recordings, stage by stage (see
+/// [`stages`]: intake, range, glide reach, comfort zone, speech and timbre,
+/// passaggi and voice type, registers, section).
 pub fn profile(recordings: &[Recording], config: &ProfileConfig) -> Result<Profile, VoiceError> {
     if recordings.is_empty() {
         return Err(VoiceError::NoRecordings);
     }
-    let mut warnings = Vec::new();
-    let mut qualities: Vec<(Task, f64)> = Vec::new();
-    for recording in recordings {
-        for warning in &recording.warnings {
-            warnings.push(format!(
-                "{} ({}): {warning}",
-                recording.file,
-                recording.task.label()
-            ));
-        }
-        let quality = recording_quality(recording);
-        for problem in &quality.problems {
-            warnings.push(format!(
-                "{} ({}): {problem}",
-                recording.file,
-                recording.task.label()
-            ));
-        }
-        qualities.push((recording.task, quality.factor));
-    }
-
-    let analysed: Vec<Analysed> = recordings
-        .iter()
-        .map(|recording| Analysed {
-            recording,
-            notes: segment_notes(&recording.track.frames, &config.tuning, &config.segment),
-        })
-        .collect();
-
-    // Recordings that were meant to be sung but hold no singing.
-    let mut usable_tasks = Vec::new();
-    for item in &analysed {
-        let recording = item.recording;
-        let voiced_seconds = recording.track.frames.iter().filter(|f| f.voiced).count() as f64
-            * recording.track.hop_seconds;
-        // Sung notes are held; spoken syllables are short (4–6 a second,
-        // about 0.2 s each: common practice, from memory) even where two
-        // run together at one pitch. So a sung task must hold most of its
-        // voiced time in notes of at least `sung_note_seconds`.
-        let noted_seconds: f64 = item
-            .notes
-            .iter()
-            .map(SungNote::seconds)
-            .filter(|&seconds| seconds >= config.sung_note_seconds)
-            .sum();
-        let task = recording.task.label();
-        if voiced_seconds < 0.3 {
-            warnings.push(format!(
-                "{} ({task}): no voice found (only {voiced_seconds:.1} s voiced); this recording was left out",
-                recording.file
-            ));
-            continue;
-        }
-        if recording.task.is_sung()
-            && recording.task != Task::Glide
-            && noted_seconds < config.sung_share * voiced_seconds
-        {
-            warnings.push(format!(
-                "{} ({task}): the voice seldom holds a pitch (only {noted_seconds:.1} of {voiced_seconds:.1} s voiced are notes held {:.1} s or longer); it sounds like speech or gliding, not singing, and was left out",
-                recording.file, config.sung_note_seconds
-            ));
-            continue;
-        }
-        usable_tasks.push(recording.task);
-    }
-    let usable = |item: &&Analysed| usable_tasks.contains(&item.recording.task);
-    // The confidence of a figure drops with the worst recording it is read
-    // from (clipping and noise: see `recording_quality`).
-    let quality_of = |tasks: &[Task]| {
-        qualities
-            .iter()
-            .filter(|(task, _)| tasks.contains(task) && usable_tasks.contains(task))
-            .map(|(_, factor)| *factor)
-            .fold(1.0_f64, f64::min)
-    };
-    let sung_quality = quality_of(&[Task::Glide, Task::Scale, Task::Sustain, Task::Song]);
-    let comfort_quality = quality_of(&[Task::Scale, Task::Song]);
-    let glide_quality = quality_of(&[Task::Glide]);
-    let overall_quality = quality_of(&Task::ALL);
-    let missing_tasks: Vec<Task> = Task::ALL
-        .into_iter()
-        .filter(|task| !usable_tasks.contains(task))
-        .collect();
-    if !missing_tasks.is_empty() {
-        let names: Vec<&str> = missing_tasks.iter().map(|t| t.label()).collect();
-        warnings.push(format!(
-            "missing tasks: {}; the profile is less certain",
-            names.join(", ")
-        ));
-    }
-
-    // Range: notes held ≥ sustain_min_seconds in any sung task, fry excluded.
-    let fry_midi = hz_to_midi(config.fry_max_hz).unwrap_or(37.0);
-    let is_fry = |note: &SungNote| {
-        note.midi < fry_midi && note.irregularity_cents > config.fry_irregularity_cents
-    };
-    let sung_notes: Vec<&SungNote> = analysed
-        .iter()
-        .filter(usable)
-        .filter(|item| item.recording.task.is_sung())
-        .flat_map(|item| item.notes.iter())
-        .filter(|note| !is_fry(note) && note.midi >= 33.0)
-        .collect();
-    let mut held: Vec<&SungNote> = sung_notes
-        .iter()
-        .copied()
-        .filter(|note| note.seconds() >= config.sustain_min_seconds)
-        .collect();
-    let mut range_confidence = 0.9;
-    if held.is_empty() {
-        held = sung_notes
-            .iter()
-            .copied()
-            .filter(|note| note.seconds() >= 0.5)
-            .collect();
-        range_confidence = 0.5;
-        if !held.is_empty() {
-            warnings.push(format!(
-                "no note was held for {:.1} s; the range comes from notes held at least 0.5 s",
-                config.sustain_min_seconds
-            ));
-        }
-    }
-    let files: Vec<&str> = recordings.iter().map(|r| r.file.as_str()).collect();
-    let (low, high) = held
-        .iter()
-        .fold(None, |span: Option<(f64, f64)>, note| {
-            Some(span.map_or((note.midi, note.midi), |(l, h)| (l.min(note.midi), h.max(note.midi))))
-        })
-        .ok_or_else(|| {
-            // Say why, per file and task: the warnings gathered so far name
-            // recordings with no voice, or speech where singing was asked.
-            let why = if warnings.is_empty() {
-                String::new()
-            } else {
-                format!(" ({})", warnings.join("; "))
-            };
-            VoiceError::NoSinging(format!(
-                "no held sung note was found in {}; the singer needs to hold notes (sustain, scale or song tasks){why}",
-                files.join(", ")
-            ))
-        })?;
-    let range = PitchSpan::new(low, high);
-
-    // Glide extremes: reached, not sustained (held at least 0.1 s).
-    let glide_points: Vec<f64> = analysed
-        .iter()
-        .filter(usable)
-        .filter(|item| item.recording.task == Task::Glide)
-        .flat_map(|item| {
-            item.recording
-                .track
-                .frames
-                .iter()
-                .filter(|f| f.voiced)
-                .filter_map(|f| config.tuning.hz_to_midi(f.f0_hz?))
-        })
-        .collect();
-    let reached = if glide_points.len() >= 20 {
-        let weights: Vec<(f64, f64)> = glide_points.iter().map(|&m| (m, 1.0)).collect();
-        let low = weighted_percentile(weights.clone(), 1.0);
-        let high = weighted_percentile(weights, 99.0);
-        low.zip(high).map(|(l, h)| PitchSpan::new(l, h))
-    } else {
-        None
-    };
-    if let Some(reach) = &reached {
-        if reach.high_midi > range.high_midi + 7.0 {
-            warnings.push(format!(
-                "the glide reached {} but no held note went above {}: the top may be unsecured, or the glide has tracking errors",
-                reach.high, range.high
-            ));
-        }
-        if reach.low_midi < range.low_midi - 7.0 {
-            warnings.push(format!(
-                "the glide went down to {} but no held note went below {}",
-                reach.low, range.low
-            ));
-        }
-    }
-
-    // Comfort zone: steady notes of scales and songs.
-    let steady: Vec<(f64, f64)> = analysed
-        .iter()
-        .filter(usable)
-        .filter(|item| matches!(item.recording.task, Task::Scale | Task::Song))
-        .flat_map(|item| item.notes.iter())
-        .filter(|note| !is_fry(note))
-        .filter(|note| {
-            note.drift_cents <= config.steady_drift_cents
-                && note.level_sd_db <= config.steady_level_sd_db
-        })
-        .map(|note| (note.midi, note.seconds()))
-        .collect();
-    let steady_seconds: f64 = steady.iter().map(|(_, s)| s).sum();
-    let comfort = if steady_seconds >= 2.0 {
-        // The scale task walks the whole comfortable range, so its lowest
-        // and highest steady notes bound the zone; the outer 1 % of steady
-        // time is dropped so a stray mistracked note cannot widen it.
-        let low = weighted_percentile(steady.clone(), 1.0).unwrap_or(range.low_midi);
-        let high = weighted_percentile(steady, 99.0).unwrap_or(range.high_midi);
-        // The comfort zone lies inside the sustained range; its top stays at
-        // least a semitone under the highest held note (common practice).
-        let high = high.min(range.high_midi - 1.0).max(range.low_midi);
-        let low = low.max(range.low_midi).min(high);
-        let has_scale = usable_tasks.contains(&Task::Scale);
-        let has_song = usable_tasks.contains(&Task::Song);
-        let confidence = (0.45
-            + 0.3 * (steady_seconds / 15.0).min(1.0)
-            + if has_scale { 0.1 } else { 0.0 }
-            + if has_song { 0.1 } else { 0.0 })
-            * comfort_quality;
-        Comfort {
-            span: PitchSpan::new(low, high),
-            confidence: confidence.min(0.95),
-            basis: format!(
-                "the middle 98 % of {steady_seconds:.1} s of steady notes in the scale and song tasks, kept inside the held range"
-            ),
-        }
-    } else {
-        // No scales or songs: a comfort zone a few semitones inside the
-        // range (common practice, from memory: about a third below the top
-        // and a minor third above the bottom).
-        let low = (range.low_midi + 3.0).min(range.high_midi);
-        let high = (range.high_midi - 4.0).max(low);
-        Comfort {
-            span: PitchSpan::new(low, high),
-            confidence: 0.3 * sung_quality,
-            basis: "no scale or song to measure it from: estimated as a minor third above the lowest and a major third below the highest held note".into(),
-        }
-    };
-
-    // Speaking f0: median of the speech task's voiced frames.
-    let mut speech: Vec<f64> = analysed
-        .iter()
-        .filter(usable)
-        .filter(|item| item.recording.task == Task::Speech)
-        .flat_map(|item| {
-            item.recording
-                .track
-                .frames
-                .iter()
-                .filter(|f| f.voiced)
-                .filter_map(|f| f.f0_hz)
-        })
-        .collect();
-    speech.sort_by(f64::total_cmp);
-    let speaking_f0_hz = speech.get(speech.len() / 2).copied();
-
-    // Timbre: median spectral measures over sung voiced frames, every 50 ms.
-    let mut measures = Vec::new();
-    for item in analysed
-        .iter()
-        .filter(usable)
-        .filter(|item| item.recording.task.is_sung())
-    {
-        let recording = item.recording;
-        let mut analyser = SpectrumAnalyser::new(recording.sample_rate);
-        let step = ((0.05 / recording.track.hop_seconds.max(1e-3)).round() as usize).max(1);
-        for frame in recording.track.frames.iter().step_by(step) {
-            if let (true, Some(f0)) = (frame.voiced, frame.f0_hz)
-                && let Some(measure) = analyser.measure(&recording.samples, frame.time, f0)
-            {
-                measures.push(measure);
-            }
-            if measures.len() >= 2000 {
-                break;
-            }
-        }
-    }
-    let timbre = median_measures(&measures);
-
-    // Register breaks in the glides.
-    let breaks: Vec<_> = analysed
-        .iter()
-        .filter(usable)
-        .filter(|item| item.recording.task == Task::Glide)
-        .flat_map(|item| {
-            let r = item.recording;
-            find_breaks(
-                &r.track.frames,
-                &r.samples,
-                r.sample_rate,
-                &config.tuning,
-                &config.breaks,
-            )
-        })
-        .collect();
-    let measured = group_breaks(&breaks, 3.0);
-
-    // First pass: classify without passaggi, to know which table row to
-    // label measured breaks against.
-    let mut evidence = Evidence {
-        range_low_midi: Some(range.low_midi),
-        range_high_midi: Some(range.high_midi),
-        comfort_low_midi: Some(comfort.span.low_midi),
-        comfort_high_midi: Some(comfort.span.high_midi),
-        primo_midi: None,
-        secondo_midi: None,
+    let mut intake = stages::intake(recordings, config);
+    let range = stages::measure_range(&mut intake, config)?;
+    let reached = stages::glide_reach(&mut intake, config, &range.range);
+    let comfort = stages::comfort_zone(&intake, config, &range);
+    let speaking_f0_hz = stages::speaking_f0(&intake);
+    let timbre = stages::timbre(&intake);
+    let typed = stages::classify_with_passaggi(
+        &intake,
+        config,
+        &range.range,
+        &comfort,
         speaking_f0_hz,
-        centroid_hz: timbre.map(|t| t.centroid_hz),
-    };
-    let first = classify(&evidence);
-    let likely = first.ranked[0].voice_type;
-    let typical = likely.typical();
+        timbre.as_ref(),
+    );
+    let registers = stages::sung_registers(&intake, config, &range, &typed.breaks);
+    let sections = stages::suggest_section(typed.best, &comfort);
 
-    let mut passaggi: Vec<Passaggio> = Vec::new();
-    for candidate in measured.iter().take(3) {
-        let kind = if (candidate.midi - typical.primo_midi).abs()
-            <= (candidate.midi - typical.secondo_midi).abs()
-        {
-            PassaggioKind::Primo
-        } else {
-            PassaggioKind::Secondo
-        };
-        if passaggi.iter().any(|p| p.kind == kind) {
-            continue;
-        }
-        passaggi.push(Passaggio {
-            midi: candidate.midi,
-            name: nearest_name(candidate.midi),
-            kind,
-            source: PassaggioSource::Measured,
-            confidence: candidate.confidence * glide_quality,
-            upward_midi: candidate.upward_midi,
-            downward_midi: candidate.downward_midi,
-        });
-    }
-    for passaggio in &passaggi {
-        match passaggio.kind {
-            PassaggioKind::Primo => evidence.primo_midi = Some(passaggio.midi),
-            PassaggioKind::Secondo => evidence.secondo_midi = Some(passaggio.midi),
-        }
-    }
-    let classification = classify(&evidence);
-    let best = classification.ranked[0].voice_type;
+    let best = typed.best;
     let best_typical = best.typical();
-    let type_confidence = classification.ranked[0].confidence * overall_quality;
-    for (kind, midi) in [
-        (PassaggioKind::Primo, best_typical.primo_midi),
-        (PassaggioKind::Secondo, best_typical.secondo_midi),
-    ] {
-        if !passaggi.iter().any(|p| p.kind == kind) {
-            passaggi.push(Passaggio {
-                midi,
-                name: nearest_name(midi),
-                kind,
-                source: PassaggioSource::Typical,
-                confidence: 0.5 * type_confidence,
-                upward_midi: None,
-                downward_midi: None,
-            });
-        }
-    }
-    passaggi.sort_by(|a, b| a.midi.total_cmp(&b.midi));
-
-    // Registers of the sung notes: fry and whistle by pitch (and fry's
-    // irregularity); modal and falsetto either side of the strongest
-    // measured glide break, the M1→M2 transition.
-    let bounds = RegisterBounds {
-        fry_max_midi: fry_midi,
-        fry_irregularity_cents: config.fry_irregularity_cents,
-        break_midi: measured.first().map(|m| m.midi),
-        whistle_min_midi: hz_to_midi(config.whistle_min_hz).unwrap_or(85.0),
-    };
-    let mut registers: Vec<RegisterSpan> = Vec::new();
-    // The notes of the sung tasks other than glides, whose turns are
-    // reached, not sung.
-    for note in analysed
-        .iter()
-        .filter(usable)
-        .filter(|item| item.recording.task.is_sung() && item.recording.task != Task::Glide)
-        .flat_map(|item| item.notes.iter())
-    {
-        let Some(register) = note_register(note.midi, note.irregularity_cents, &bounds) else {
-            continue;
-        };
-        match registers.iter_mut().find(|r| r.register == register) {
-            Some(existing) => {
-                existing.span = PitchSpan::new(
-                    existing.span.low_midi.min(note.midi),
-                    existing.span.high_midi.max(note.midi),
-                );
-                existing.seconds += note.seconds();
-            }
-            None => registers.push(RegisterSpan {
-                register,
-                span: PitchSpan::new(note.midi, note.midi),
-                seconds: note.seconds(),
-            }),
-        }
-    }
-    registers.sort_by_key(|r| r.register);
-
-    // Section: the best of the sections a voice of this type sings in.
-    let allowed: &[&str] = match best {
-        VoiceType::Bass | VoiceType::Baritone => &["B1", "B2", "T2"],
-        VoiceType::Tenor => &["T1", "T2", "B1"],
-        VoiceType::Countertenor => &["A1", "A2", "T1"],
-        VoiceType::Contralto | VoiceType::MezzoSoprano | VoiceType::Soprano => {
-            &["S1", "S2", "A1", "A2"]
-        }
-    };
-    let ranked_sections: Vec<_> = rank_sections(comfort.span.low_midi, comfort.span.high_midi)
-        .into_iter()
-        .filter(|choice| allowed.contains(&choice.section.as_str()))
-        .collect();
-    let section = ranked_sections
-        .first()
-        .map_or_else(String::new, |c| c.section.clone());
-    let section_runner_up = ranked_sections
-        .get(1)
-        .map_or_else(String::new, |c| c.section.clone());
-
-    let mut reasons = classification.reasons.clone();
-    for passaggio in passaggi
+    let mut reasons = typed.classification.reasons.clone();
+    for passaggio in typed
+        .passaggi
         .iter()
         .filter(|p| p.source == PassaggioSource::Typical)
     {
@@ -848,14 +452,18 @@ pub fn profile(recordings: &[Recording], config: &ProfileConfig) -> Result<Profi
             best_typical.passaggi_source,
         ));
     }
-    if let Some(choice) = ranked_sections.first() {
+    if let Some(choice) = sections.ranked.first() {
         reasons.push(format!(
             "section {}: its usual tessitura sits best in the comfort zone {}–{} (runner-up {})",
-            choice.section, comfort.span.low, comfort.span.high, section_runner_up
+            choice.section,
+            comfort.span.low,
+            comfort.span.high,
+            sections.runner_up()
         ));
     }
 
-    let alternatives = classification.ranked[1..]
+    let overall_quality = intake.quality_of(&Task::ALL);
+    let alternatives = typed.classification.ranked[1..]
         .iter()
         .filter(|c| c.confidence >= 0.01)
         .map(|c| TypeShare {
@@ -867,25 +475,25 @@ pub fn profile(recordings: &[Recording], config: &ProfileConfig) -> Result<Profi
     profile_cautions.push("This profile is provisional: re-check it after a few rehearsals, and sooner for a young or changing voice.".into());
 
     Ok(Profile {
-        range,
-        range_confidence: range_confidence * sung_quality,
+        range: range.range,
+        range_confidence: range.confidence * intake.sung_quality(),
         comfort,
         reached,
-        passaggi,
+        passaggi: typed.passaggi,
         registers,
         speaking_f0_hz,
         timbre,
         voice_type: VoiceTypeResult {
             label: best.label().into(),
-            confidence: type_confidence,
+            confidence: typed.confidence,
             alternatives,
         },
-        section,
-        section_runner_up,
+        section: sections.section(),
+        section_runner_up: sections.runner_up(),
         reasons,
         cautions: profile_cautions,
-        missing_tasks,
-        warnings,
+        missing_tasks: intake.missing_tasks,
+        warnings: intake.warnings,
     })
 }
 
