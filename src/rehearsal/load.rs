@@ -175,7 +175,9 @@ pub fn line_load(line: &Part, passage: &Passage, high_from_midi: f64) -> LineLoa
     let mut current: Option<(f64, f64)> = None;
     for (start, end) in sorted {
         current = match current {
-            Some((open, close)) if start <= close + TOUCHING_SECONDS => Some((open, close.max(end))),
+            Some((open, close)) if start <= close + TOUCHING_SECONDS => {
+                Some((open, close.max(end)))
+            }
             Some((open, close)) => {
                 longest = longest.max(close - open);
                 Some((start, end))

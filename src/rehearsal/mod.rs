@@ -284,7 +284,11 @@ impl ItemSpec {
                     bars = Some(BarRange { first, last });
                     rest = head;
                 }
-                _ => return Err(bad("bars must be FIRST-LAST with FIRST ≤ LAST (e.g. 34-52)")),
+                _ => {
+                    return Err(bad(
+                        "bars must be FIRST-LAST with FIRST ≤ LAST (e.g. 34-52)",
+                    ));
+                }
             }
         }
         if rest.is_empty() {
@@ -362,13 +366,15 @@ fn high_references(layout: &Layout, config: &RehearsalConfig) -> Vec<(f64, Strin
     layout
         .sections
         .iter()
-        .map(|section| match config.high_from_midi.get(&section.to_string()) {
-            Some(&midi) => (midi, "set by the director".to_string()),
-            None => {
-                let reference = section_high_reference(section);
-                (reference.midi, reference.source)
-            }
-        })
+        .map(
+            |section| match config.high_from_midi.get(&section.to_string()) {
+                Some(&midi) => (midi, "set by the director".to_string()),
+                None => {
+                    let reference = section_high_reference(section);
+                    (reference.midi, reference.source)
+                }
+            },
+        )
         .collect()
 }
 
@@ -433,7 +439,9 @@ fn item_figures(
         }
         let passage = select_passage(piece.piece, item.bars).map_err(bad)?;
         if passage.seconds <= 0.0 {
-            return Err(bad("the passage takes no time at the written tempo".to_string()));
+            return Err(bad(
+                "the passage takes no time at the written tempo".to_string()
+            ));
         }
         if let Some(needed) = &item.sections {
             if needed.is_empty() {
@@ -527,7 +535,10 @@ pub fn plan_rehearsal(
         {
             return Err(RehearsalError::BadItem {
                 item: format!("#{}", index + 1),
-                message: format!("position {position} is already given to item #{}", other + 1),
+                message: format!(
+                    "position {position} is already given to item #{}",
+                    other + 1
+                ),
             });
         }
     }
@@ -624,8 +635,7 @@ pub fn plan_rehearsal(
                 Slot::Work(index) => {
                     let item = &request.items[index];
                     let figures = &figures[index];
-                    let singing: Vec<usize> =
-                        (0..sections).filter(|&s| figures.sings[s]).collect();
+                    let singing: Vec<usize> = (0..sections).filter(|&s| figures.sings[s]).collect();
                     PlanBlock {
                         kind: if item.sections.is_some() {
                             BlockKind::Sectional

@@ -481,8 +481,12 @@ impl<'p> Timeline<'p> {
         let mut state = self.state();
         let base = (self.times.len() - 1) * sections;
         for s in 0..sections {
-            let sung = block.and_then(|b| b.sung_minutes.get(s).copied()).unwrap_or(0.0);
-            let high = block.and_then(|b| b.high_minutes.get(s).copied()).unwrap_or(0.0);
+            let sung = block
+                .and_then(|b| b.sung_minutes.get(s).copied())
+                .unwrap_or(0.0);
+            let high = block
+                .and_then(|b| b.high_minutes.get(s).copied())
+                .unwrap_or(0.0);
             let previous_load = self.cumulative_load[base + s];
             let previous_sung = self.cumulative_sung[base + s];
             self.cumulative_load
@@ -505,13 +509,7 @@ impl<'p> Timeline<'p> {
         self.times.push(end);
         self.slots.push(slot);
         for s in 0..sections {
-            let load = self.max_window(
-                &self.cumulative_load,
-                s,
-                facts.load_window,
-                start,
-                end,
-            );
+            let load = self.max_window(&self.cumulative_load, s, facts.load_window, start, end);
             state.peak_load = state.peak_load.max(load.value);
             if let Some(rest) = self.problem.rules.rest {
                 let sung = self.max_window(&self.cumulative_sung, s, facts.rest_window, start, end);
@@ -731,19 +729,27 @@ impl<'p> Timeline<'p> {
                 },
                 Rule::HighBudget => {
                     let budget = problem.rules.high_budget_minutes.unwrap_or(0.0);
-                    let over = sections_where(&|f| f.longest_high_stretch_minutes > budget + EPSILON);
+                    let over =
+                        sections_where(&|f| f.longest_high_stretch_minutes > budget + EPSILON);
                     let blocks = problem
                         .blocks
                         .iter()
                         .enumerate()
-                        .filter(|(_, b)| over.iter().any(|&s| b.high_minutes.get(s).copied().unwrap_or(0.0) > budget + EPSILON))
+                        .filter(|(_, b)| {
+                            over.iter().any(|&s| {
+                                b.high_minutes.get(s).copied().unwrap_or(0.0) > budget + EPSILON
+                            })
+                        })
                         .map(|(i, _)| i)
                         .collect();
                     Broken {
                         rule,
                         detail: format!(
                             "high singing in a row reaches {:.1} min (budget {budget:.1} min)",
-                            figures.iter().map(|f| f.longest_high_stretch_minutes).fold(0.0, f64::max)
+                            figures
+                                .iter()
+                                .map(|f| f.longest_high_stretch_minutes)
+                                .fold(0.0, f64::max)
                         ),
                         blocks,
                         sections: over,
@@ -784,7 +790,8 @@ impl<'p> Timeline<'p> {
                             self.times[position],
                             self.times[position + 1],
                             facts.last_stretch_from.max(0.0),
-                            if problem.warm_up.is_none() && order.first() == facts.hardest.as_ref() {
+                            if problem.warm_up.is_none() && order.first() == facts.hardest.as_ref()
+                            {
                                 ", and it opens the rehearsal without a warm-up"
                             } else {
                                 ""
@@ -799,7 +806,8 @@ impl<'p> Timeline<'p> {
                     let mut blocks = Vec::new();
                     for pair in self.slots.windows(2) {
                         if let [Slot::Work(a), Slot::Work(b)] = *pair
-                            && let (Some(x), Some(y)) = (facts.sectional_masks[a], facts.sectional_masks[b])
+                            && let (Some(x), Some(y)) =
+                                (facts.sectional_masks[a], facts.sectional_masks[b])
                             && x & y != 0
                         {
                             blocks.extend([a, b]);
@@ -956,7 +964,10 @@ pub fn heuristic(problem: &OrderProblem) -> Ordered {
     for &(_, first) in first_choices.iter().take(3) {
         let greedy = greedy_from(problem, &facts, first, &mut examined);
         let (cost, order) = local_search(problem, &facts, greedy, &mut examined);
-        if best.as_ref().is_none_or(|(best_cost, _)| cost.better_than(best_cost)) {
+        if best
+            .as_ref()
+            .is_none_or(|(best_cost, _)| cost.better_than(best_cost))
+        {
             best = Some((cost, order));
         }
     }
@@ -964,7 +975,12 @@ pub fn heuristic(problem: &OrderProblem) -> Ordered {
     replay(problem, &facts, &order, Method::Heuristic, examined)
 }
 
-fn greedy_from(problem: &OrderProblem, facts: &Facts, first: usize, examined: &mut u64) -> Vec<usize> {
+fn greedy_from(
+    problem: &OrderProblem,
+    facts: &Facts,
+    first: usize,
+    examined: &mut u64,
+) -> Vec<usize> {
     let n = problem.blocks.len();
     let mut timeline = Timeline::new(problem, facts);
     let mut used = vec![false; n];
@@ -987,7 +1003,10 @@ fn greedy_from(problem: &OrderProblem, facts: &Facts, first: usize, examined: &m
             let cost = timeline.state().cost();
             timeline.pop();
             *examined += 1;
-            if choice.as_ref().is_none_or(|(best, _)| cost.better_than(best)) {
+            if choice
+                .as_ref()
+                .is_none_or(|(best, _)| cost.better_than(best))
+            {
                 choice = Some((cost, index));
             }
         }
@@ -1088,7 +1107,13 @@ pub fn brute_force(problem: &OrderProblem) -> Option<Ordered> {
         }
     });
     let (_, order) = best?;
-    Some(replay(problem, &facts, &order, Method::BruteForce, examined))
+    Some(replay(
+        problem,
+        &facts,
+        &order,
+        Method::BruteForce,
+        examined,
+    ))
 }
 
 fn permute(items: &mut Vec<usize>, k: usize, visit: &mut dyn FnMut(&[usize])) {

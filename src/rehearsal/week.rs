@@ -141,10 +141,10 @@ pub fn plan_week(
             .filter_map(|label| {
                 let day = before.sections.get(label)?;
                 let show = concert.sections.get(label)?;
-                let sung = day.sung_minutes > share * show.sung_minutes + 1e-9
-                    && day.sung_minutes > 0.0;
-                let high = day.high_minutes > share * show.high_minutes + 1e-9
-                    && day.high_minutes > 0.0;
+                let sung =
+                    day.sung_minutes > share * show.sung_minutes + 1e-9 && day.sung_minutes > 0.0;
+                let high =
+                    day.high_minutes > share * show.high_minutes + 1e-9 && day.high_minutes > 0.0;
                 (sung || high).then(|| {
                     format!(
                         "{label} {:.0} sung / {:.1} high min against {:.0} / {:.1} at the concert",
