@@ -461,12 +461,17 @@ impl<'p> Timeline<'p> {
             }
         };
         consider(to);
-        for &t in &self.times {
+        // Only boundaries within `width` before `from` can end a window in range.
+        let first = self.times.partition_point(|&t| t + width <= from);
+        for &t in &self.times[first..] {
+            if t >= to {
+                break;
+            }
             let end = t + width;
             if end > from && end < to {
                 consider(end);
             }
-            if t > from && t < to {
+            if t > from {
                 consider(t);
             }
         }
@@ -915,41 +920,41 @@ fn replay(
     timeline.finish(method, examined)
 }
 
-fn cost_of(problem: &OrderProblem, facts: &Facts, order: &[usize]) -> Cost {
-    let mut timeline = Timeline::new(problem, facts);
-    for &index in order {
-        timeline.push(index);
-    }
-    timeline.state().cost()
-}
 
-/// The heuristic for long plans:
+/// The heuristic for long plans (iterated local search):
 /// 1. greedy construction: at each place, the block whose addition gives the
-///    lowest prefix cost (fixed blocks at their places);
+///    lowest prefix cost (fixed blocks at their places), started from each
+///    of the best first choices;
 /// 2. local search to a local optimum under two moves among the movable
 ///    blocks: swapping two, and moving one to another place (best
-///    improvement per pass);
-/// 3. the same from the three best first choices of step 1, keeping the best.
+///    improvement per pass; above 12 blocks only moves of up to 8 places);
+/// 3. kicks: a random segment of the best order reversed, then step 2
+///    again, kept when better (20 kicks up to 12 blocks, 4 above; a fixed
+///    seed, so the result is deterministic).
+///
+/// Orders are evaluated by extending the common prefix of the previous
+/// candidate, and candidates are visited from the end of the order, so most
+/// of the timeline is reused.
 pub fn heuristic(problem: &OrderProblem) -> Ordered {
     let facts = Facts::of(problem);
     let n = problem.blocks.len();
-    let mut examined = 0u64;
+    let large = n > 12;
+    let mut evaluator = Evaluator {
+        timeline: Timeline::new(problem, &facts),
+        current: Vec::new(),
+        examined: 0,
+    };
     let mut first_choices: Vec<(Cost, usize)> = Vec::new();
-    {
-        let mut timeline = Timeline::new(problem, &facts);
-        let candidates: Vec<usize> = match facts.fixed_at.first().copied().flatten() {
-            Some(index) => vec![index],
-            None => (0..n)
-                .filter(|&i| facts.fixed_at.iter().all(|f| *f != Some(i)))
-                .filter(|&i| facts.twin_of[i].is_none())
-                .collect(),
-        };
-        for index in candidates {
-            timeline.push(index);
-            first_choices.push((timeline.state().cost(), index));
-            timeline.pop();
-            examined += 1;
-        }
+    let candidates: Vec<usize> = match facts.fixed_at.first().copied().flatten() {
+        Some(index) => vec![index],
+        None => (0..n)
+            .filter(|&i| facts.fixed_at.iter().all(|f| *f != Some(i)))
+            .filter(|&i| facts.twin_of[i].is_none())
+            .collect(),
+    };
+    for index in candidates {
+        let cost = evaluator.cost(&[index]);
+        first_choices.push((cost, index));
     }
     first_choices.sort_by(|a, b| {
         if a.0.better_than(&b.0) {
@@ -960,114 +965,169 @@ pub fn heuristic(problem: &OrderProblem) -> Ordered {
             a.1.cmp(&b.1)
         }
     });
+    let movable: Vec<usize> = (0..n)
+        .filter(|&p| facts.fixed_at.get(p).copied().flatten().is_none())
+        .collect();
+    let reach = if large { 8 } else { n };
     let mut best: Option<(Cost, Vec<usize>)> = None;
-    for &(_, first) in first_choices.iter().take(3) {
-        let greedy = greedy_from(problem, &facts, first, &mut examined);
-        let (cost, order) = local_search(problem, &facts, greedy, &mut examined);
-        if best
-            .as_ref()
-            .is_none_or(|(best_cost, _)| cost.better_than(best_cost))
-        {
+    for &(_, first) in first_choices.iter().take(if large { 2 } else { 3 }) {
+        let greedy = greedy_from(problem, &facts, first, &mut evaluator);
+        let (cost, order) = local_search(problem, &movable, reach, greedy, &mut evaluator);
+        if best.as_ref().is_none_or(|(best_cost, _)| cost.better_than(best_cost)) {
             best = Some((cost, order));
         }
     }
+    let mut random = 0x2545_f491_4f6c_dd1du64;
+    let kicks = if large { 4 } else { 20 };
+    if movable.len() >= 3 {
+        for _ in 0..kicks {
+            let Some((best_cost, best_order)) = best.clone() else {
+                break;
+            };
+            let mut next = |bound: usize| {
+                random ^= random << 13;
+                random ^= random >> 7;
+                random ^= random << 17;
+                (random % bound as u64) as usize
+            };
+            let a = next(movable.len());
+            let b = next(movable.len());
+            let (a, b) = (a.min(b), a.max(b));
+            if b - a < 2 {
+                continue;
+            }
+            let mut kicked = best_order.clone();
+            let mut values: Vec<usize> = movable[a..=b].iter().map(|&m| best_order[m]).collect();
+            values.reverse();
+            for (&m, value) in movable[a..=b].iter().zip(values) {
+                kicked[m] = value;
+            }
+            let (cost, order) = local_search(problem, &movable, reach, kicked, &mut evaluator);
+            if cost.better_than(&best_cost) {
+                best = Some((cost, order));
+            }
+        }
+    }
     let order = best.map_or_else(Vec::new, |(_, order)| order);
+    let examined = evaluator.examined;
     replay(problem, &facts, &order, Method::Heuristic, examined)
+}
+
+/// Costs of whole or partial orders on one timeline, reusing the prefix
+/// shared with the order evaluated before.
+struct Evaluator<'p> {
+    timeline: Timeline<'p>,
+    current: Vec<usize>,
+    examined: u64,
+}
+
+impl Evaluator<'_> {
+    fn cost(&mut self, order: &[usize]) -> Cost {
+        self.examined += 1;
+        let common = self
+            .current
+            .iter()
+            .zip(order)
+            .take_while(|(a, b)| a == b)
+            .count();
+        while self.current.len() > common {
+            self.timeline.pop();
+            self.current.pop();
+        }
+        for &index in &order[common..] {
+            self.timeline.push(index);
+            self.current.push(index);
+        }
+        self.timeline.state().cost()
+    }
 }
 
 fn greedy_from(
     problem: &OrderProblem,
     facts: &Facts,
     first: usize,
-    examined: &mut u64,
+    evaluator: &mut Evaluator,
 ) -> Vec<usize> {
     let n = problem.blocks.len();
-    let mut timeline = Timeline::new(problem, facts);
-    let mut used = vec![false; n];
     if n == 0 {
         return Vec::new();
     }
-    timeline.push(first);
+    let mut order = vec![first];
+    let mut used = vec![false; n];
     used[first] = true;
-    while timeline.work_placed < n {
-        let depth = timeline.work_placed;
+    while order.len() < n {
+        let depth = order.len();
         let candidates: Vec<usize> = match facts.fixed_at[depth] {
             Some(index) if !used[index] => vec![index],
             _ => (0..n)
                 .filter(|&i| !used[i] && facts.fixed_at.iter().all(|f| *f != Some(i)))
+                .filter(|&i| facts.twin_of[i].is_none_or(|twin| used[twin]))
                 .collect(),
         };
         let mut choice: Option<(Cost, usize)> = None;
         for index in candidates {
-            timeline.push(index);
-            let cost = timeline.state().cost();
-            timeline.pop();
-            *examined += 1;
-            if choice
-                .as_ref()
-                .is_none_or(|(best, _)| cost.better_than(best))
-            {
+            order.push(index);
+            let cost = evaluator.cost(&order);
+            order.pop();
+            if choice.as_ref().is_none_or(|(best, _)| cost.better_than(best)) {
                 choice = Some((cost, index));
             }
         }
-        // Only a fixed block can leave no candidate here (placed already
-        // elsewhere); fall back to any unused block so the order is complete.
+        // Only a fixed block placed elsewhere could leave no candidate; fall
+        // back to any unused block so the order is complete.
         let index = choice
             .map(|(_, index)| index)
             .or_else(|| (0..n).find(|&i| !used[i]))
             .unwrap_or(0);
         used[index] = true;
-        timeline.push(index);
+        order.push(index);
     }
-    timeline.order()
+    order
 }
 
 fn local_search(
     problem: &OrderProblem,
-    facts: &Facts,
+    movable: &[usize],
+    reach: usize,
     mut order: Vec<usize>,
-    examined: &mut u64,
+    evaluator: &mut Evaluator,
 ) -> (Cost, Vec<usize>) {
-    let movable: Vec<usize> = (0..order.len())
-        .filter(|&p| facts.fixed_at.get(p).copied().flatten().is_none())
-        .collect();
-    let mut cost = cost_of(problem, facts, &order);
+    let mut cost = evaluator.cost(&order);
     loop {
         let mut best_move: Option<(Cost, Vec<usize>)> = None;
-        let mut consider = |candidate: Vec<usize>, examined: &mut u64| {
-            *examined += 1;
-            let candidate_cost = cost_of(problem, facts, &candidate);
-            let target = best_move.as_ref().map_or(cost, |(c, _)| *c);
-            if candidate_cost.better_than(&target) {
-                best_move = Some((candidate_cost, candidate));
+        // Candidates by the first place they change, from the end, so the
+        // evaluator keeps the longest prefix.
+        for a in (0..movable.len()).rev() {
+            let p = movable[a];
+            let far = (a + reach + 1).min(movable.len());
+            let mut candidates: Vec<Vec<usize>> = Vec::new();
+            for &q in &movable[a + 1..far] {
+                if problem.blocks[order[p]] != problem.blocks[order[q]] {
+                    let mut candidate = order.clone();
+                    candidate.swap(p, q);
+                    candidates.push(candidate);
+                }
             }
-        };
-        for (a, &p) in movable.iter().enumerate() {
-            for &q in &movable[a + 1..] {
-                if problem.blocks[order[p]] == problem.blocks[order[q]] {
-                    continue;
+            // Moves whose first changed place is p: the block at p moved
+            // later, or a later block moved to p.
+            for b in a + 2..far {
+                for (from, to) in [(a, b), (b, a)] {
+                    let mut values: Vec<usize> = movable.iter().map(|&m| order[m]).collect();
+                    let moved = values.remove(from);
+                    values.insert(to, moved);
+                    let mut candidate = order.clone();
+                    for (&m, &value) in movable.iter().zip(&values) {
+                        candidate[m] = value;
+                    }
+                    candidates.push(candidate);
                 }
-                let mut candidate = order.clone();
-                candidate.swap(p, q);
-                consider(candidate, examined);
             }
-        }
-        for &p in &movable {
-            for &q in &movable {
-                if p == q || p.abs_diff(q) == 1 {
-                    continue;
+            for candidate in candidates {
+                let candidate_cost = evaluator.cost(&candidate);
+                let target = best_move.as_ref().map_or(cost, |(c, _)| *c);
+                if candidate_cost.better_than(&target) {
+                    best_move = Some((candidate_cost, candidate));
                 }
-                // Move the block at p to q, shifting the movable blocks between.
-                let mut values: Vec<usize> = movable.iter().map(|&m| order[m]).collect();
-                let from = movable.iter().position(|&m| m == p).unwrap_or(0);
-                let to = movable.iter().position(|&m| m == q).unwrap_or(0);
-                let moved = values.remove(from);
-                values.insert(to, moved);
-                let mut candidate = order.clone();
-                for (&m, &value) in movable.iter().zip(&values) {
-                    candidate[m] = value;
-                }
-                consider(candidate, examined);
             }
         }
         match best_move {
@@ -1090,7 +1150,11 @@ pub fn brute_force(problem: &OrderProblem) -> Option<Ordered> {
     let facts = Facts::of(problem);
     let mut order: Vec<usize> = (0..n).collect();
     let mut best: Option<(Cost, Vec<usize>)> = None;
-    let mut examined = 0u64;
+    let mut evaluator = Evaluator {
+        timeline: Timeline::new(problem, &facts),
+        current: Vec::new(),
+        examined: 0,
+    };
     permute(&mut order, 0, &mut |candidate| {
         let fixed_ok = facts
             .fixed_at
@@ -1100,13 +1164,13 @@ pub fn brute_force(problem: &OrderProblem) -> Option<Ordered> {
         if !fixed_ok {
             return;
         }
-        examined += 1;
-        let cost = cost_of(problem, &facts, candidate);
+        let cost = evaluator.cost(candidate);
         if best.as_ref().is_none_or(|(b, _)| cost.better_than(b)) {
             best = Some((cost, candidate.to_vec()));
         }
     });
     let (_, order) = best?;
+    let examined = evaluator.examined;
     Some(replay(
         problem,
         &facts,
