@@ -72,7 +72,10 @@ fn bench(c: &mut Criterion) {
         })
         .collect();
     let config = RehearsalConfig::default();
-    for (label, count, minutes) in [("9 items (exact)", 9, 90.0), ("30 items (heuristic)", 30, 240.0)] {
+    for (label, count, minutes) in [
+        ("9 items (exact)", 9, 90.0),
+        ("30 items (heuristic)", 30, 240.0),
+    ] {
         let request = RehearsalRequest {
             minutes,
             items: items(count),

@@ -920,7 +920,6 @@ fn replay(
     timeline.finish(method, examined)
 }
 
-
 /// The heuristic for long plans (iterated local search):
 /// 1. greedy construction: at each place, the block whose addition gives the
 ///    lowest prefix cost (fixed blocks at their places), started from each
@@ -973,7 +972,10 @@ pub fn heuristic(problem: &OrderProblem) -> Ordered {
     for &(_, first) in first_choices.iter().take(if large { 2 } else { 3 }) {
         let greedy = greedy_from(problem, &facts, first, &mut evaluator);
         let (cost, order) = local_search(problem, &movable, reach, greedy, &mut evaluator);
-        if best.as_ref().is_none_or(|(best_cost, _)| cost.better_than(best_cost)) {
+        if best
+            .as_ref()
+            .is_none_or(|(best_cost, _)| cost.better_than(best_cost))
+        {
             best = Some((cost, order));
         }
     }
@@ -1069,7 +1071,10 @@ fn greedy_from(
             order.push(index);
             let cost = evaluator.cost(&order);
             order.pop();
-            if choice.as_ref().is_none_or(|(best, _)| cost.better_than(best)) {
+            if choice
+                .as_ref()
+                .is_none_or(|(best, _)| cost.better_than(best))
+            {
                 choice = Some((cost, index));
             }
         }
