@@ -834,3 +834,81 @@ fn cli_names_a_bad_item() {
         "{stderr}"
     );
 }
+
+/// The demo's 90-minute rehearsal of the sample programme (SSAATTBB): it
+/// fits, meets every default rule, keeps every item, and rests the women
+/// during the men's piece and the tenors' sectional.
+#[test]
+fn demo_rehearsal_fits_and_meets_the_rules() {
+    let layout = Layout::parse(ambit::demo::seed::DEMO_LAYOUT).unwrap();
+    let programme = ambit::demo::run::demo_programme().unwrap();
+    let plan = ambit::demo::run::demo_rehearsal(&programme, &layout).unwrap();
+    assert!(
+        plan.planned_minutes <= 90.0 + 1e-9,
+        "{}",
+        plan.planned_minutes
+    );
+    assert!(plan.rules.iter().all(|r| r.met), "{:#?}", plan.rules);
+    assert!(plan.warnings.is_empty(), "{:#?}", plan.warnings);
+    let sectional = plan
+        .items
+        .iter()
+        .find(|b| b.kind == BlockKind::Sectional)
+        .unwrap();
+    assert_eq!(sectional.sections, vec!["T1".to_string(), "T2".to_string()]);
+}
+
+/// With a roster: a singer's own minutes above their secondo, by hand, and
+/// the warning for a light voice on a heavy line.
+///
+/// The tenor line of the two-bar piece sings C4 4 s, G4 1 s, A4 2 s. For a
+/// singer whose secondo is C4 every note is high: 7 s a run-through; the
+/// section's reference G4 (Miller's tenor secondo) counts 3 s. Over 20
+/// run-throughs with the phonation ratio 0.85: 7 × 20 × 0.85 / 60 = 1.98 min
+/// against 3 × 20 × 0.85 / 60 = 0.85 min, more than twice and over a minute
+/// more (the "far above" threshold, chosen here).
+#[test]
+fn a_light_voice_on_a_heavy_line_is_named() {
+    use ambit::rehearsal::singer_loads;
+    use ambit::roster::{Roster, Singer};
+    let piece = two_bar_piece();
+    let layout = Layout::parse("SATB").unwrap();
+    let mapping = map_piece(&piece, 0, &layout, &MappingConfig::default()).unwrap();
+    let pieces = [RehearsalPiece {
+        name: "two-bars.musicxml",
+        piece: &piece,
+        mapping: &mapping,
+    }];
+    let request = RehearsalRequest {
+        minutes: 60.0,
+        items: vec![item(0, None, 20)],
+    };
+    let config = RehearsalConfig::default();
+    let plan = plan_rehearsal(&pieces, &layout, &request, &config).unwrap();
+    let singer = |name: &str, secondo: f64| Singer {
+        name: name.to_string(),
+        range_low_midi: 48.0,
+        range_high_midi: 69.0,
+        comfort_low_midi: 50.0,
+        comfort_high_midi: 64.0,
+        primo_midi: Some(secondo - 5.0),
+        secondo_midi: Some(secondo),
+        voice_type: None,
+        section: Some("T".to_string()),
+        notes: None,
+    };
+    let roster = Roster {
+        singers: vec![singer("Orrin Vale", 60.0), singer("Cas Merrow", 67.0)],
+    };
+    let (loads, warnings) =
+        singer_loads(&pieces, &layout, &request, &plan, &roster, &config).unwrap();
+    let close = |a: f64, b: f64| (a - b).abs() < 1e-9;
+    assert!(close(loads[0].high_minutes, 7.0 * 20.0 * 0.85 / 60.0));
+    assert!(close(
+        loads[0].section_high_minutes,
+        3.0 * 20.0 * 0.85 / 60.0
+    ));
+    assert!(close(loads[1].high_minutes, 3.0 * 20.0 * 0.85 / 60.0));
+    assert_eq!(warnings.len(), 1, "{warnings:#?}");
+    assert!(warnings[0].starts_with("Orrin Vale"), "{}", warnings[0]);
+}

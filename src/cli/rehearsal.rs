@@ -49,6 +49,9 @@ pub struct RehearsalArgs {
     /// Least share of every 30-minute window a section must be silent (0–1).
     #[arg(long)]
     pub rest_share: Option<f64>,
+    /// Roster (CSV or Ambit's JSON) whose `section` column is the placement: adds each singer's minutes above their own secondo.
+    #[arg(long)]
+    pub roster: Option<std::path::PathBuf>,
     /// Print JSON instead of a run sheet.
     #[arg(long)]
     pub json: bool,
@@ -107,11 +110,17 @@ pub fn run(arguments: RehearsalArgs) -> anyhow::Result<()> {
     if let (Some(share), Some(rest)) = (arguments.rest_share, config.rules.rest.as_mut()) {
         rest.min_share = share;
     }
+    let roster = arguments
+        .roster
+        .as_deref()
+        .map(ambit::roster::read_roster)
+        .transpose()?;
     let bar = Bar::new();
     let plan = plan_rehearsal_files(
         &items,
         &layout,
         arguments.minutes,
+        roster.as_ref(),
         &config,
         &bar,
         &Cancel::new(),
@@ -251,6 +260,32 @@ fn print_plan(plan: &RehearsalPlan) {
     say!();
     for line in &plan.estimate {
         say!("{line}");
+    }
+    if !plan.singers.is_empty() {
+        say!();
+        say!("Singers (minutes at or above their own secondo passaggio):");
+        let mut rows = vec![
+            [
+                "singer",
+                "section",
+                "secondo",
+                "own high min",
+                "section high min",
+            ]
+            .iter()
+            .map(|c| c.to_string())
+            .collect::<Vec<_>>(),
+        ];
+        for singer in &plan.singers {
+            rows.push(vec![
+                singer.name.clone(),
+                singer.section.clone(),
+                singer.secondo.clone(),
+                format!("{:.1}", singer.high_minutes),
+                format!("{:.1}", singer.section_high_minutes),
+            ]);
+        }
+        print_rows(&rows);
     }
     if !plan.warnings.is_empty() {
         say!();

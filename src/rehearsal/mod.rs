@@ -222,6 +222,9 @@ pub struct RehearsalPlan {
     pub estimate: Vec<String>,
     pub warnings: Vec<String>,
     pub cautions: Vec<String>,
+    /// With a roster: each singer's own high minutes (empty without one).
+    #[serde(default)]
+    pub singers: Vec<SingerLoad>,
 }
 
 #[derive(Debug, Clone, PartialEq, Eq, Error)]
@@ -762,6 +765,7 @@ pub fn plan_rehearsal(
         estimate,
         warnings,
         cautions: rehearsal_cautions(),
+        singers: Vec::new(),
     })
 }
 
@@ -853,4 +857,120 @@ fn rule_outcomes(
             })
         })
         .collect()
+}
+
+/// A singer's own high load over a rehearsal.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+pub struct SingerLoad {
+    pub name: String,
+    pub section: String,
+    /// The singer's secondo passaggio, the reference for their high minutes.
+    pub secondo: String,
+    /// Minutes at or above the singer's own secondo (a divisi: the heavier line).
+    pub high_minutes: f64,
+    /// The section's high minutes (at or above the section's reference).
+    pub section_high_minutes: f64,
+}
+
+/// A singer's high minutes are "far above" their section's when they exceed
+/// it by this factor and by at least [`FAR_ABOVE_MINUTES`] (both chosen here).
+pub const FAR_ABOVE_FACTOR: f64 = 2.0;
+/// See [`FAR_ABOVE_FACTOR`].
+pub const FAR_ABOVE_MINUTES: f64 = 1.0;
+
+/// Each placed singer's minutes above their own secondo passaggio over the
+/// plan's items, and a warning for every singer far above their section
+/// (e.g. a light voice on a heavy line) and every singer who cannot be
+/// counted (no section in the layout, no secondo).
+pub fn singer_loads(
+    pieces: &[RehearsalPiece],
+    layout: &Layout,
+    request: &RehearsalRequest,
+    plan: &RehearsalPlan,
+    roster: &crate::roster::Roster,
+    config: &RehearsalConfig,
+) -> Result<(Vec<SingerLoad>, Vec<String>), RehearsalError> {
+    let mut loads = Vec::new();
+    let mut warnings = Vec::new();
+    let mut passages = Vec::with_capacity(request.items.len());
+    for item in &request.items {
+        let piece = pieces
+            .get(item.piece)
+            .ok_or_else(|| RehearsalError::BadItem {
+                item: format!("#{}", item.piece + 1),
+                message: "no such piece".to_string(),
+            })?;
+        let passage =
+            select_passage(piece.piece, item.bars).map_err(|message| RehearsalError::BadItem {
+                item: piece.name.to_string(),
+                message,
+            })?;
+        passages.push((piece, passage));
+    }
+    for singer in &roster.singers {
+        let Some(label) = singer
+            .section
+            .as_deref()
+            .map(str::trim)
+            .filter(|s| !s.is_empty())
+        else {
+            warnings.push(format!(
+                "{}: no section in the roster; not counted",
+                singer.name
+            ));
+            continue;
+        };
+        let Some(section) = Section::parse(label)
+            .ok()
+            .filter(|s| layout.sections.contains(s))
+        else {
+            warnings.push(format!(
+                "{}: section {label} is not in layout {}; not counted",
+                singer.name, layout.name
+            ));
+            continue;
+        };
+        let Some(secondo) = singer.secondo_midi else {
+            warnings.push(format!(
+                "{}: no secondo passaggio in the roster; own high minutes not counted",
+                singer.name
+            ));
+            continue;
+        };
+        let mut high_seconds = 0.0;
+        for (item, (piece, passage)) in request.items.iter().zip(&passages) {
+            let called = item
+                .sections
+                .as_ref()
+                .is_none_or(|needed| needed.contains(&section));
+            if !called {
+                continue;
+            }
+            if let Some(line) = section_line_load(piece.mapping, &section, passage, secondo) {
+                high_seconds += line.high_seconds * f64::from(item.run_throughs);
+            }
+        }
+        let high_minutes = high_seconds * config.phonation_ratio / 60.0;
+        let section_high_minutes = plan
+            .sections
+            .get(&section.to_string())
+            .map_or(0.0, |s| s.high_minutes);
+        if high_minutes > FAR_ABOVE_FACTOR * section_high_minutes
+            && high_minutes >= section_high_minutes + FAR_ABOVE_MINUTES
+        {
+            warnings.push(format!(
+                "{} sings {high_minutes:.1} min above their secondo ({}) against {section_high_minutes:.1} high min for section {section}: a heavy line for this voice",
+                singer.name,
+                name_with_cents(secondo)
+            ));
+        }
+        loads.push(SingerLoad {
+            name: singer.name.clone(),
+            section: section.to_string(),
+            secondo: name_with_cents(secondo),
+            high_minutes,
+            section_high_minutes,
+        });
+    }
+    Ok((loads, warnings))
 }

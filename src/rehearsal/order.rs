@@ -54,7 +54,8 @@ pub struct OrderRules {
     pub high_budget_minutes: Option<f64>,
     pub rest: Option<RestRule>,
     /// The hardest high block is not first (without a warm-up) and ends
-    /// before the last this-many minutes.
+    /// before the last this-many minutes (at most the last quarter of a
+    /// shorter plan).
     pub hardest_high_last_stretch_minutes: Option<f64>,
     /// Two sectionals in a row share no section.
     pub interleave_sectionals: bool,
@@ -345,7 +346,9 @@ impl Facts {
             last_stretch_from: problem
                 .rules
                 .hardest_high_last_stretch_minutes
-                .map_or(f64::INFINITY, |stretch| total_minutes - stretch),
+                .map_or(f64::INFINITY, |stretch| {
+                    total_minutes - stretch.min(total_minutes / 4.0)
+                }),
             intrinsic_peak,
             sectional_masks,
             fixed_at,

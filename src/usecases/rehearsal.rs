@@ -12,8 +12,9 @@ use super::{Cancel, Progress, UseCaseError};
 use crate::rehearsal::week::{DayPlan, WeekDay, WeekPlan, plan_week};
 use crate::rehearsal::{
     ItemSpec, RehearsalConfig, RehearsalItem, RehearsalPiece, RehearsalPlan, RehearsalRequest,
-    plan_rehearsal,
+    plan_rehearsal, singer_loads,
 };
+use crate::roster::Roster;
 use crate::score::{Piece, ReadOptions, read_score};
 use crate::sections::{Layout, MappingConfig, PieceMapping, Section, map_piece};
 
@@ -136,11 +137,15 @@ fn request_items(items: &[ItemInput], loaded: &Loaded) -> Result<Vec<RehearsalIt
         .collect()
 }
 
-/// Plans a rehearsal of `minutes` from score files for `layout`.
+/// Plans a rehearsal of `minutes` from score files for `layout`. With a
+/// roster (its `section` column is the placement), each singer's own
+/// minutes above their secondo are added, with a warning for a singer far
+/// above their section.
 pub fn plan_rehearsal_files(
     items: &[ItemInput],
     layout: &Layout,
     minutes: f64,
+    roster: Option<&Roster>,
     config: &RehearsalConfig,
     progress: &dyn Progress,
     cancel: &Cancel,
@@ -155,12 +160,14 @@ pub fn plan_rehearsal_files(
         minutes,
         items: request_items(items, &loaded)?,
     };
-    Ok(plan_rehearsal(
-        &loaded.planner_pieces(),
-        layout,
-        &request,
-        config,
-    )?)
+    let pieces = loaded.planner_pieces();
+    let mut plan = plan_rehearsal(&pieces, layout, &request, config)?;
+    if let Some(roster) = roster {
+        let (singers, warnings) = singer_loads(&pieces, layout, &request, &plan, roster, config)?;
+        plan.singers = singers;
+        plan.warnings.extend(warnings);
+    }
+    Ok(plan)
 }
 
 /// One day of a week as a front end gives it.
