@@ -81,6 +81,14 @@ fn two_bar_piece() -> Piece {
     }
 }
 
+/// The two-bar piece mapped to SATB.
+fn two_bar_inputs() -> (Piece, Layout, PieceMapping) {
+    let piece = two_bar_piece();
+    let layout = Layout::parse("SATB").unwrap();
+    let mapping = map_piece(&piece, 0, &layout, &MappingConfig::default()).unwrap();
+    (piece, layout, mapping)
+}
+
 fn sample(name: &str) -> std::path::PathBuf {
     common::project_root().join("sample-scores").join(name)
 }
@@ -238,9 +246,7 @@ fn same_cost(a: &Cost, b: &Cost) -> bool {
 /// *The Structure of Singing*, for the tenor; the soprano's from memory).
 #[test]
 fn loads_match_hand_computation() {
-    let piece = two_bar_piece();
-    let layout = Layout::parse("SATB").unwrap();
-    let mapping = map_piece(&piece, 0, &layout, &MappingConfig::default()).unwrap();
+    let (piece, layout, mapping) = two_bar_inputs();
     let pieces = [RehearsalPiece {
         name: "two-bars.musicxml",
         piece: &piece,
@@ -871,9 +877,7 @@ fn demo_rehearsal_fits_and_meets_the_rules() {
 fn a_light_voice_on_a_heavy_line_is_named() {
     use ambit::rehearsal::singer_loads;
     use ambit::roster::{Roster, Singer};
-    let piece = two_bar_piece();
-    let layout = Layout::parse("SATB").unwrap();
-    let mapping = map_piece(&piece, 0, &layout, &MappingConfig::default()).unwrap();
+    let (piece, layout, mapping) = two_bar_inputs();
     let pieces = [RehearsalPiece {
         name: "two-bars.musicxml",
         piece: &piece,

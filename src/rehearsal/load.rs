@@ -6,6 +6,7 @@
 
 use serde::{Deserialize, Serialize};
 
+use crate::fit::longest_stretch;
 use crate::score::{Note, Part, Piece};
 use crate::sections::{Section, Voice};
 use crate::tessitura::union_length;
@@ -169,29 +170,11 @@ pub fn line_load(line: &Part, passage: &Passage, high_from_midi: f64) -> LineLoa
             .filter(move |note| !high_only || note.midi >= high_from_midi - 1e-6)
             .map(|note| (note.onset_seconds, note.end_seconds()))
     };
-    let mut sorted: Vec<(f64, f64)> = spans(false).collect();
-    sorted.sort_by(|a, b| a.0.total_cmp(&b.0));
-    let mut longest: f64 = 0.0;
-    let mut current: Option<(f64, f64)> = None;
-    for (start, end) in sorted {
-        current = match current {
-            Some((open, close)) if start <= close + TOUCHING_SECONDS => {
-                Some((open, close.max(end)))
-            }
-            Some((open, close)) => {
-                longest = longest.max(close - open);
-                Some((start, end))
-            }
-            None => Some((start, end)),
-        };
-    }
-    if let Some((open, close)) = current {
-        longest = longest.max(close - open);
-    }
     LineLoad {
         sung_seconds: union_length(spans(false)),
         high_seconds: union_length(spans(true)),
-        longest_unbroken_seconds: longest,
+        // Notes are in onset order (`Part::notes`); a gap of any length is a rest.
+        longest_unbroken_seconds: longest_stretch(notes.iter().copied(), TOUCHING_SECONDS),
     }
 }
 

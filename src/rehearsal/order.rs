@@ -231,6 +231,16 @@ struct State {
 }
 
 impl State {
+    /// Before any slot: nothing sung, nothing broken.
+    const EMPTY: State = State {
+        peak_load: 0.0,
+        broken: 0,
+        high_excess: 0.0,
+        rest_deficit_minutes: 0.0,
+        interleave_count: 0,
+        placement_count: 0,
+    };
+
     fn cost(&self) -> Cost {
         Cost {
             rules_broken: self.broken.count_ones(),
@@ -391,14 +401,7 @@ impl<'p> Timeline<'p> {
             cumulative_sung: vec![0.0; s],
             high_run: vec![0.0; s],
             longest_high: vec![0.0; s],
-            states: vec![State {
-                peak_load: 0.0,
-                broken: 0,
-                high_excess: 0.0,
-                rest_deficit_minutes: 0.0,
-                interleave_count: 0,
-                placement_count: 0,
-            }],
+            states: vec![State::EMPTY],
             steps: Vec::new(),
             work_placed: 0,
             breaks_placed: 0,
@@ -414,14 +417,7 @@ impl<'p> Timeline<'p> {
     }
 
     fn state(&self) -> State {
-        self.states.last().copied().unwrap_or(State {
-            peak_load: 0.0,
-            broken: 0,
-            high_excess: 0.0,
-            rest_deficit_minutes: 0.0,
-            interleave_count: 0,
-            placement_count: 0,
-        })
+        self.states.last().copied().unwrap_or(State::EMPTY)
     }
 
     /// Cumulative value of section `s` at minute `x` (linear within a slot).
