@@ -916,3 +916,49 @@ fn a_light_voice_on_a_heavy_line_is_named() {
     assert_eq!(warnings.len(), 1, "{warnings:#?}");
     assert!(warnings[0].starts_with("Orrin Vale"), "{}", warnings[0]);
 }
+
+/// The library form: a programme stored in the library becomes whole-piece
+/// items, shown by their stored titles.
+#[test]
+fn cli_takes_a_programme_from_the_library() {
+    let folder = tempfile::tempdir().unwrap();
+    let library = folder.path().join("choir");
+    let library_text = library.to_string_lossy().into_owned();
+    let (ok, _, stderr) = common::run_ambit(&["library", "init", "--library", &library_text]);
+    assert!(ok, "{stderr}");
+    for file in ["lanterns-on-the-quay.mxl", "the-lamplighter.mxl"] {
+        let path = sample(file).to_string_lossy().into_owned();
+        let (ok, _, stderr) = common::run_ambit(&[
+            "library",
+            "add-piece",
+            "--library",
+            &library_text,
+            "--programme",
+            "Quay Night",
+            &path,
+        ]);
+        assert!(ok, "{stderr}");
+    }
+    let (ok, stdout, stderr) = common::run_ambit(&[
+        "rehearsal",
+        "--minutes",
+        "40",
+        "--layout",
+        "SATB",
+        "--library",
+        &library_text,
+        "--programme",
+        "Quay Night",
+        "--json",
+    ]);
+    assert!(ok, "{stderr}");
+    let json: serde_json::Value = serde_json::from_str(&stdout).unwrap();
+    let mut pieces: Vec<&str> = json["items"]
+        .as_array()
+        .unwrap()
+        .iter()
+        .filter_map(|b| b["piece"].as_str())
+        .collect();
+    pieces.sort_unstable();
+    assert_eq!(pieces, ["Lanterns on the Quay", "The Lamplighter"]);
+}

@@ -1,6 +1,7 @@
 //! `ambit rehearsal --minutes N --layout LAYOUT ITEM… [--json]`: a rehearsal
 //! plan by vocal load. An ITEM is `SCORE`, `SCORE:FIRST-LAST`, each
-//! optionally followed by `:xK` for K run-throughs. Prints the timed run
+//! optionally followed by `:xK` for K run-throughs; `--programme NAME` adds
+//! a programme stored in the library. Prints the timed run
 //! sheet, the load per section, the rules, the warnings and the cautions.
 
 use anyhow::{Context, bail};
@@ -23,8 +24,14 @@ pub struct RehearsalArgs {
     #[arg(long)]
     pub layout: String,
     /// What to rehearse: SCORE, SCORE:FIRST-LAST (printed bars), each optionally with :xK run-throughs.
-    #[arg(required = true, value_name = "ITEM")]
+    #[arg(required_unless_present = "programme", value_name = "ITEM")]
     pub items: Vec<String>,
+    /// A programme stored in the library: its pieces, whole and once each, come after the ITEMs.
+    #[arg(long)]
+    pub programme: Option<String>,
+    /// The choir library holding --programme (default: AMBIT_LIBRARY, else the OS data directory).
+    #[arg(long, value_name = "PATH")]
+    pub library: Option<std::path::PathBuf>,
     /// Make item N (1-based, in the order given) a sectional for these sections, e.g. 2=T,B.
     #[arg(long = "sectional", value_name = "N=SECTIONS")]
     pub sectionals: Vec<String>,
@@ -78,6 +85,15 @@ pub fn run(arguments: RehearsalArgs) -> anyhow::Result<()> {
         .iter()
         .map(|text| ItemInput::parse(text))
         .collect::<Result<Vec<_>, _>>()?;
+    if let Some(name) = &arguments.programme {
+        let folder = ambit::library::resolve_folder(arguments.library.as_deref())?;
+        let library = super::library::open(&folder)?;
+        let stored = ambit::usecases::rehearsal::programme_items(&library, name)?;
+        if stored.is_empty() {
+            bail!("programme `{name}` has no pieces in {}", folder.display());
+        }
+        items.extend(stored);
+    }
     let count = items.len();
     for text in &arguments.sectionals {
         let (index, sections) = item_pair("--sectional", text, count)?;

@@ -9,6 +9,7 @@ use std::path::{Path, PathBuf};
 use serde::{Deserialize, Serialize};
 
 use super::{Cancel, Progress, UseCaseError};
+use crate::library::Library;
 use crate::rehearsal::week::{DayPlan, WeekDay, WeekPlan, plan_week};
 use crate::rehearsal::{
     ItemSpec, RehearsalConfig, RehearsalItem, RehearsalPiece, RehearsalPlan, RehearsalRequest,
@@ -27,6 +28,9 @@ pub struct ItemInput {
     pub sections: Option<Vec<String>>,
     /// A fixed place among the items, 1-based.
     pub position: Option<usize>,
+    /// The name shown for the piece (default: the score's file name).
+    #[serde(default)]
+    pub label: Option<String>,
 }
 
 impl ItemInput {
@@ -36,8 +40,28 @@ impl ItemInput {
             spec: ItemSpec::parse(text)?,
             sections: None,
             position: None,
+            label: None,
         })
     }
+}
+
+/// The pieces of a programme stored in the library, in order, as whole-piece
+/// items sung once each and labelled by their titles.
+pub fn programme_items(library: &Library, name: &str) -> Result<Vec<ItemInput>, UseCaseError> {
+    Ok(library
+        .programme(name)?
+        .into_iter()
+        .map(|piece| ItemInput {
+            spec: ItemSpec {
+                score: piece.path.display().to_string(),
+                bars: None,
+                run_throughs: 1,
+            },
+            sections: None,
+            position: None,
+            label: Some(piece.title),
+        })
+        .collect())
 }
 
 /// The scores read and mapped once each, in first-use order.
@@ -64,16 +88,18 @@ impl Loaded {
 }
 
 fn load_scores<'a>(
-    paths: impl Iterator<Item = &'a str>,
+    paths: impl Iterator<Item = (&'a str, Option<&'a str>)>,
     layout: &Layout,
     progress: &dyn Progress,
     cancel: &Cancel,
 ) -> Result<Loaded, UseCaseError> {
     let mut unique: Vec<PathBuf> = Vec::new();
-    for path in paths {
+    let mut labels: Vec<Option<&str>> = Vec::new();
+    for (path, label) in paths {
         let path = PathBuf::from(path);
         if !unique.contains(&path) {
             unique.push(path);
+            labels.push(label);
         }
     }
     let mut loaded = Loaded {
@@ -86,7 +112,11 @@ fn load_scores<'a>(
         cancel.check()?;
         progress.step(index, unique.len(), &path.display().to_string());
         let mut piece = read_score(path, &ReadOptions::default())?;
-        let name = file_name(path);
+        let name = labels
+            .get(index)
+            .copied()
+            .flatten()
+            .map_or_else(|| file_name(path), str::to_string);
         if piece.title.as_deref().is_none_or(|t| t.trim().is_empty()) {
             piece.title = Some(name.clone());
         }
@@ -151,7 +181,9 @@ pub fn plan_rehearsal_files(
     cancel: &Cancel,
 ) -> Result<RehearsalPlan, UseCaseError> {
     let loaded = load_scores(
-        items.iter().map(|i| i.spec.score.as_str()),
+        items
+            .iter()
+            .map(|i| (i.spec.score.as_str(), i.label.as_deref())),
         layout,
         progress,
         cancel,
@@ -189,8 +221,11 @@ pub fn plan_week_files(
     cancel: &Cancel,
 ) -> Result<WeekPlan, UseCaseError> {
     let loaded = load_scores(
-        days.iter()
-            .flat_map(|d| d.items.iter().map(|i| i.spec.score.as_str())),
+        days.iter().flat_map(|d| {
+            d.items
+                .iter()
+                .map(|i| (i.spec.score.as_str(), i.label.as_deref()))
+        }),
         layout,
         progress,
         cancel,
