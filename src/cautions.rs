@@ -17,6 +17,10 @@ pub const SEE_A_DOCTOR: &str = "Hoarseness or breathiness lasting more than two 
 /// Placements are suggestions.
 pub const STARTING_POINT: &str = "Placement suggestions are a starting point for the director's judgement. They are not a verdict.";
 
+/// Rehearsal plans: rest a tired voice.
+pub const REST_WHEN_TIRED: &str =
+    "Rest the voice when it is tired; no rehearsing through laryngitis.";
+
 /// The cautions that go with every voice classification, placement or key
 /// suggestion, in the order they are shown.
 pub fn cautions() -> Vec<String> {

@@ -172,7 +172,10 @@ fn is_sung(note: &Note) -> bool {
 
 /// Longest stretch of notes (in onset order) chained by gaps shorter than a
 /// breath; other notes in between do not break it. Ties have no gap, so they merge.
-fn longest_stretch<'a>(notes: impl Iterator<Item = &'a Note>, breath_seconds: f64) -> f64 {
+pub(crate) fn longest_stretch<'a>(
+    notes: impl Iterator<Item = &'a Note>,
+    breath_seconds: f64,
+) -> f64 {
     let mut longest: f64 = 0.0;
     let mut run: Option<(f64, f64)> = None;
     for note in notes {

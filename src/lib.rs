@@ -20,6 +20,7 @@ pub mod library;
 pub mod pitch;
 pub mod placement;
 pub mod plan;
+pub mod rehearsal;
 pub mod report;
 pub mod roster;
 pub mod score;

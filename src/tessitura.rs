@@ -328,7 +328,7 @@ fn sounding_notes(part: &Part) -> impl Iterator<Item = &Note> {
 }
 
 /// Length of the union of intervals.
-fn union_length(intervals: impl Iterator<Item = (f64, f64)>) -> f64 {
+pub(crate) fn union_length(intervals: impl Iterator<Item = (f64, f64)>) -> f64 {
     let mut spans: Vec<(f64, f64)> = intervals.filter(|(a, b)| b > a).collect();
     spans.sort_by(|a, b| a.0.total_cmp(&b.0));
     let mut total = 0.0;

@@ -1,6 +1,6 @@
 //! `ambit demo [--out DIR]`: the whole pipeline on the bundled demo choir
 //! and sample scores (`ambit::demo::run`), a short summary on stdout, and
-//! `DIR/report.html`, `DIR/roster.csv` and `DIR/auditions/<singer>/<task>.wav`.
+//! `DIR/report.html`, `DIR/roster.csv`, `DIR/rehearsal.json` and `DIR/auditions/<singer>/<task>.wav`.
 
 use std::fmt::Write as _;
 use std::io::IsTerminal as _;
@@ -16,7 +16,7 @@ use super::write_stdout;
 
 #[derive(Debug, Args)]
 pub struct DemoArgs {
-    /// Folder for report.html, roster.csv and the synthesised audition recordings.
+    /// Folder for report.html, roster.csv, rehearsal.json and the synthesised audition recordings.
     #[arg(long, value_name = "DIR", default_value = "ambit-demo")]
     pub out: PathBuf,
 }
@@ -51,6 +51,11 @@ pub fn run(arguments: DemoArgs) -> anyhow::Result<()> {
         text,
         "roster:     {} (measured figures; section = the suggested seat)",
         outputs.roster.display()
+    )?;
+    writeln!(
+        text,
+        "rehearsal:  {} (a 90-minute rehearsal of the programme by vocal load; `ambit rehearsal --json` shape)",
+        outputs.rehearsal.display()
     )?;
     writeln!(
         text,

@@ -30,6 +30,7 @@ mod parts;
 mod place;
 mod profile;
 mod progress;
+mod rehearsal;
 mod track;
 mod transpose;
 
@@ -59,6 +60,8 @@ pub enum Command {
     Library(library::LibraryArgs),
     /// How well every singer of a roster fits every part of the scores.
     Fit(fit::FitArgs),
+    /// A rehearsal plan by vocal load: order and time pieces and passages so no section sings high too long.
+    Rehearsal(rehearsal::RehearsalArgs),
     /// The key in which a piece sits best for a soloist or the placed choir.
     Transpose(transpose::TransposeArgs),
 }
@@ -73,6 +76,7 @@ pub fn run(cli: Cli) -> anyhow::Result<()> {
         Command::Library(arguments) => library::run(arguments),
         Command::Fit(arguments) => fit::run(arguments),
         Command::Transpose(arguments) => transpose::run(arguments),
+        Command::Rehearsal(arguments) => rehearsal::run(arguments),
     }
 }
 

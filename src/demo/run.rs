@@ -113,6 +113,12 @@ pub enum DemoError {
     Csv(#[from] csv::Error),
     #[error(transparent)]
     Report(#[from] crate::report::ReportError),
+    #[error("demo rehearsal: {0}")]
+    Mapping(#[from] crate::sections::MappingError),
+    #[error("demo rehearsal: {0}")]
+    Rehearsal(#[from] crate::rehearsal::RehearsalError),
+    #[error("demo rehearsal as JSON: {0}")]
+    Json(#[from] serde_json::Error),
 }
 
 /// The bundled sample scores, read.
@@ -235,15 +241,86 @@ pub fn run_demo_with_progress(
     })
 }
 
+/// Length of the demo rehearsal.
+pub const DEMO_REHEARSAL_MINUTES: f64 = 90.0;
+
+/// The demo rehearsal: 90 minutes of the sample programme for `layout`
+/// (whole pieces and passages with run-throughs, and a tenors' sectional on
+/// the high page of "The Lamplighter"), planned with the default rules.
+pub fn demo_rehearsal(
+    programme: &[Piece],
+    layout: &Layout,
+) -> Result<crate::rehearsal::RehearsalPlan, DemoError> {
+    use crate::rehearsal::load::BarRange;
+    use crate::rehearsal::{
+        RehearsalConfig, RehearsalItem, RehearsalPiece, RehearsalRequest, plan_rehearsal,
+    };
+    use crate::sections::{MappingConfig, Section, map_piece};
+    let mappings = programme
+        .iter()
+        .enumerate()
+        .map(|(index, piece)| map_piece(piece, index, layout, &MappingConfig::default()))
+        .collect::<Result<Vec<_>, _>>()?;
+    let pieces: Vec<RehearsalPiece> = programme
+        .iter()
+        .zip(&mappings)
+        .zip(SAMPLE_SCORES.iter())
+        .map(|((piece, mapping), (name, _))| RehearsalPiece {
+            name,
+            piece,
+            mapping,
+        })
+        .collect();
+    let item = |piece: usize, bars: Option<(i64, i64)>, run_throughs: u32| RehearsalItem {
+        piece,
+        bars: bars.map(|(first, last)| BarRange { first, last }),
+        run_throughs,
+        sections: None,
+        position: None,
+    };
+    let tenors: Vec<Section> = layout
+        .sections
+        .iter()
+        .copied()
+        .filter(|s| s.voice == crate::sections::Voice::Tenor)
+        .collect();
+    let mut items = vec![
+        item(0, None, 4),
+        item(1, Some((1, 12)), 4),
+        item(2, None, 3),
+        item(3, None, 3),
+        item(1, None, 3),
+        item(0, Some((18, 33)), 3),
+    ];
+    if !tenors.is_empty() {
+        let mut sectional = item(2, Some((5, 12)), 3);
+        sectional.sections = Some(tenors);
+        items.push(sectional);
+    }
+    let request = RehearsalRequest {
+        minutes: DEMO_REHEARSAL_MINUTES,
+        items,
+    };
+    Ok(plan_rehearsal(
+        &pieces,
+        layout,
+        &request,
+        &RehearsalConfig::default(),
+    )?)
+}
+
 /// The files [`write_outputs`] wrote.
 #[derive(Debug, Clone, PartialEq, Eq, Serialize, Deserialize)]
 pub struct DemoOutputs {
     pub report: PathBuf,
     pub roster: PathBuf,
+    /// The demo rehearsal plan as JSON (`ambit rehearsal --json`'s shape).
+    pub rehearsal: PathBuf,
 }
 
 /// Writes `dir/roster.csv` (the placed roster: measured figures, the
-/// placement in the `section` column) and `dir/report.html`. Each file is
+/// placement in the `section` column), `dir/report.html` and
+/// `dir/rehearsal.json` (the demo rehearsal, [`demo_rehearsal`]). Each file is
 /// written whole or not at all.
 pub fn write_outputs(result: &DemoResult, dir: &Path) -> Result<DemoOutputs, DemoError> {
     std::fs::create_dir_all(dir).map_err(|source| DemoError::Write {
@@ -266,5 +343,13 @@ pub fn write_outputs(result: &DemoResult, dir: &Path) -> Result<DemoOutputs, Dem
         plan: &result.plan,
     };
     crate::report::write_report(&report, &document)?;
-    Ok(DemoOutputs { report, roster })
+    let layout = Layout::parse(&result.plan.layout)?;
+    let plan = demo_rehearsal(&demo_programme()?, &layout)?;
+    let rehearsal = dir.join("rehearsal.json");
+    crate::report::write_atomically(&rehearsal, serde_json::to_string_pretty(&plan)?.as_bytes())?;
+    Ok(DemoOutputs {
+        report,
+        roster,
+        rehearsal,
+    })
 }

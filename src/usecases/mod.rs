@@ -8,6 +8,7 @@
 //!   mapping), read a programme back.
 //! - [`placement`]: the fit matrix views and a placement session (solve,
 //!   what-if moves, undo and redo, divisi, seating CSV).
+//! - [`rehearsal`]: plan a rehearsal by vocal load from score files.
 //! - [`singers`]: delete a singer, saying what went.
 //!
 //! Long work takes a [`Progress`] and a [`Cancel`] as parameters; results
@@ -20,6 +21,7 @@
 pub mod audition;
 pub mod pieces;
 pub mod placement;
+pub mod rehearsal;
 pub mod singers;
 
 use std::sync::Arc;
@@ -121,6 +123,8 @@ pub enum UseCaseError {
     Programme(#[from] crate::plan::ProgrammeError),
     #[error(transparent)]
     Placement(#[from] crate::placement::PlacementError),
+    #[error(transparent)]
+    Rehearsal(#[from] crate::rehearsal::RehearsalError),
     #[error("{0}")]
     Invalid(String),
     #[error("{0}")]

@@ -105,6 +105,20 @@ fn ambit_demo_writes_a_report_roster_and_recordings() {
     assert_eq!(roster.singers.len(), DEMO_CHOIR.len());
     assert!(roster.singers.iter().all(|singer| singer.section.is_some()));
 
+    // rehearsal.json: the demo's 90-minute rehearsal, every block within
+    // the 90 minutes, with the rehearsal cautions.
+    let rehearsal: serde_json::Value = serde_json::from_str(
+        &std::fs::read_to_string(folder.join("rehearsal.json")).expect("rehearsal.json"),
+    )
+    .expect("rehearsal.json is JSON");
+    assert_eq!(rehearsal["minutes"].as_f64(), Some(90.0));
+    let blocks = rehearsal["items"].as_array().expect("run sheet");
+    assert!(blocks.iter().all(|b| {
+        b["start_minute"].as_f64().unwrap_or(f64::MAX) + b["minutes"].as_f64().unwrap_or(0.0)
+            <= 90.0 + 1e-9
+    }));
+    assert!(rehearsal["cautions"].to_string().contains("laryngitis"));
+
     // Five 16-bit WAV recordings per singer, in a folder named after them.
     let glide = folder.join("auditions/teodor-marsh-ivey/glide.wav");
     let reader = hound::WavReader::open(&glide).expect("a WAV file");
