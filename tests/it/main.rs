@@ -33,6 +33,7 @@ mod placement_scipy;
 mod pretty_midi_timing;
 mod profile_bad_input;
 mod profile_notes_pyin;
+mod rehearsal;
 mod report;
 mod roster;
 mod track;

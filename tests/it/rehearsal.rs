@@ -2,7 +2,7 @@
 //! music21, the searches against each other (brute force ⇄ exact ⇄
 //! heuristic), every rule on a plan built to break it, and the CLI's JSON.
 
-mod common;
+use crate::common;
 
 use std::collections::BTreeSet;
 
