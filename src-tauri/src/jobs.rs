@@ -2,6 +2,7 @@
 //! once, `job-progress` while it runs, `job-done` with the result or the
 //! error at the end, and cancellation checked between steps.
 
+use crate::error::AppError;
 use std::collections::HashMap;
 use std::sync::Arc;
 use std::sync::Mutex;
@@ -37,7 +38,7 @@ pub struct JobDone {
     #[serde(skip_serializing_if = "Option::is_none")]
     pub result: Option<serde_json::Value>,
     #[serde(skip_serializing_if = "Option::is_none")]
-    pub error: Option<String>,
+    pub error: Option<AppError>,
 }
 
 /// What a job's work sees: progress reporting and the cancel flag.
@@ -46,9 +47,6 @@ pub struct JobContext<R: Runtime> {
     pub job: u64,
     cancel: Arc<AtomicBool>,
 }
-
-/// The error a cancelled job ends with.
-pub const CANCELLED: &str = "cancelled";
 
 impl<R: Runtime> JobContext<R> {
     pub fn progress(&self, done: usize, total: usize, label: &str) {
@@ -64,9 +62,9 @@ impl<R: Runtime> JobContext<R> {
     }
 
     /// `Err` once the job has been cancelled.
-    pub fn check(&self) -> Result<(), String> {
+    pub fn check(&self) -> Result<(), AppError> {
         if self.cancel.load(Ordering::Relaxed) {
-            Err(CANCELLED.to_string())
+            Err(AppError::cancelled())
         } else {
             Ok(())
         }
@@ -88,8 +86,8 @@ impl Jobs {
     pub fn spawn<R: Runtime>(
         &self,
         app: &AppHandle<R>,
-        work: impl FnOnce(&JobContext<R>) -> Result<serde_json::Value, String> + Send + 'static,
-    ) -> Result<u64, String> {
+        work: impl FnOnce(&JobContext<R>) -> Result<serde_json::Value, AppError> + Send + 'static,
+    ) -> Result<u64, AppError> {
         let job = self.next.fetch_add(1, Ordering::Relaxed) + 1;
         let cancel = Arc::new(AtomicBool::new(false));
         lock(&self.running).insert(job, cancel.clone());
@@ -120,7 +118,7 @@ impl Jobs {
                 };
                 let _ = app.emit(JOB_DONE, done);
             })
-            .map_err(|error| format!("cannot start the job: {error}"))?;
+            .map_err(|error| AppError::invalid(format!("cannot start the job: {error}")))?;
         Ok(job)
     }
 

@@ -9,6 +9,7 @@
 //! thread and reports through `job-progress`/`job-done` events.
 
 pub mod commands;
+pub mod error;
 pub mod jobs;
 pub mod recorder;
 pub mod state;

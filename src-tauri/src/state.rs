@@ -2,6 +2,8 @@
 //! library's folder, running jobs, the recording in progress, the last
 //! placement (for what-if moves) and the last measured profile.
 
+use crate::error::AppError;
+use ambit::usecases::ErrorKind;
 use std::path::PathBuf;
 use std::sync::Mutex;
 
@@ -85,7 +87,7 @@ impl AppState {
         *lock(&self.demo_folder) = Some(folder);
     }
 
-    pub fn demo_folder(&self) -> Result<PathBuf, String> {
+    pub fn demo_folder(&self) -> Result<PathBuf, AppError> {
         lock(&self.demo_folder)
             .clone()
             .ok_or_else(|| "the app has no data folder for the demo library".to_string())
@@ -176,9 +178,12 @@ impl AppState {
 
     /// `Err` while the demo library is being prepared: it would replace
     /// whatever was opened meanwhile.
-    pub fn refuse_while_preparing(&self) -> Result<(), String> {
+    pub fn refuse_while_preparing(&self) -> Result<(), AppError> {
         if self.status().state == LibraryState::Preparing {
-            Err("the demo library is still being prepared; try again when it is ready".to_string())
+            Err(AppError::new(
+                ErrorKind::Busy,
+                "the demo library is still being prepared; try again when it is ready",
+            ))
         } else {
             Ok(())
         }
@@ -211,10 +216,10 @@ impl AppState {
     pub fn with_library<T>(
         &self,
         work: impl FnOnce(&mut Library) -> Result<T, LibraryError>,
-    ) -> Result<T, String> {
+    ) -> Result<T, AppError> {
         let mut guard = lock(&self.library);
         match guard.as_mut() {
-            Some(open) => work(&mut open.library).map_err(|error| error.to_string()),
+            Some(open) => work(&mut open.library).map_err(AppError::from),
             None => Err(self.no_library()),
         }
     }
@@ -222,8 +227,8 @@ impl AppState {
     /// Runs `work`, whose errors are already messages, on the open library.
     pub fn using<T>(
         &self,
-        work: impl FnOnce(&mut Library) -> Result<T, String>,
-    ) -> Result<T, String> {
+        work: impl FnOnce(&mut Library) -> Result<T, AppError>,
+    ) -> Result<T, AppError> {
         let mut guard = lock(&self.library);
         match guard.as_mut() {
             Some(open) => work(&mut open.library),
@@ -235,26 +240,30 @@ impl AppState {
     pub fn with_library_flag<T>(
         &self,
         work: impl FnOnce(&mut Library, bool) -> Result<T, LibraryError>,
-    ) -> Result<T, String> {
+    ) -> Result<T, AppError> {
         let mut guard = lock(&self.library);
         match guard.as_mut() {
-            Some(open) => work(&mut open.library, open.is_demo).map_err(|error| error.to_string()),
+            Some(open) => work(&mut open.library, open.is_demo).map_err(AppError::from),
             None => Err(self.no_library()),
         }
     }
 
-    fn no_library(&self) -> String {
+    fn no_library(&self) -> AppError {
         let status = self.status();
         if status.state == LibraryState::Preparing {
-            return format!(
-                "the demo library is still being prepared ({} of {} steps done)",
-                status.done, status.total
+            return AppError::new(
+                ErrorKind::Busy,
+                format!(
+                    "the demo library is still being prepared ({} of {} steps done)",
+                    status.done, status.total
+                ),
             );
         }
-        match lock(&self.startup_error).as_ref() {
+        let message = match lock(&self.startup_error).as_ref() {
             Some(error) => format!("no library is open ({error})"),
             None => "no library is open; open or create one".to_string(),
-        }
+        };
+        AppError::new(ErrorKind::NotFound, message)
     }
 }
 

@@ -155,9 +155,15 @@ fn an_audition_of_a_held_a3_measures_a3_and_deleting_the_singer_removes_the_file
     for file in &removed {
         assert!(!file.exists(), "{} is still on disk", file.display());
     }
+    let gone = app
+        .call_typed("singer_history", json!({ "name": "Pell Marrow" }))
+        .expect_err("the singer is gone");
+    assert_eq!(gone["kind"], "notFound", "{gone}");
     assert!(
-        app.call("singer_history", json!({ "name": "Pell Marrow" }))
-            .is_err()
+        gone["message"]
+            .as_str()
+            .is_some_and(|message| message.contains("Pell Marrow")),
+        "{gone}"
     );
 }
 
@@ -168,8 +174,9 @@ fn an_audition_of_a_missing_file_ends_the_job_with_an_error_naming_it() {
         "audition_analyse",
         json!({ "singer": "Pell Marrow", "files": [{ "task": "glide", "path": "/nonexistent/glide.wav" }] }),
     );
-    let error = done["error"].as_str().expect("an error");
+    let error = done["error"]["message"].as_str().expect("an error");
     assert!(error.contains("/nonexistent/glide.wav"), "{error}");
+    assert_eq!(done["error"]["kind"], "invalid", "{done}");
 }
 
 /// The `<part-name>`s of a MusicXML file, read with plain string search.
@@ -586,7 +593,7 @@ fn a_cancelled_job_ends_with_cancelled_and_an_unknown_job_is_not_an_error() {
         },
     );
     let job = done["job"].clone();
-    assert_eq!(done["error"], "cancelled", "{done}");
+    assert_eq!(done["error"]["kind"], "cancelled", "{done}");
     assert!(done["result"].is_null());
     // Cancelling again, or a job that never was, is harmless.
     app.ok("job_cancel", json!({ "job": job }));

@@ -304,7 +304,16 @@ export interface JobProgress {
 export interface JobDone<T> {
   job: JobId;
   result?: T;
-  error?: string;
+  error?: AppError;
+}
+
+/** What kind of failure a command reports (the engine's `ErrorKind`). */
+export type ErrorKind = "invalid" | "notFound" | "busy" | "cancelled" | "storage";
+
+/** Every command's error: a kind to act on and the engine's message, which names the file or thing. */
+export interface AppError {
+  kind: ErrorKind;
+  message: string;
 }
 
 export type JobId = number | string;
@@ -361,15 +370,30 @@ export function backend(): Promise<Backend> {
   return chosen;
 }
 
-/** Errors from commands are the engine's message strings; show them as they are. */
+function isAppError(error: unknown): error is AppError {
+  return (
+    typeof error === "object" &&
+    error !== null &&
+    typeof (error as AppError).kind === "string" &&
+    typeof (error as AppError).message === "string"
+  );
+}
+
+/** The message of a command's error (the engine's own words), shown as it is. */
 export function errorText(error: unknown): string {
   if (typeof error === "string") return error;
+  if (isAppError(error)) return error.message;
   if (error instanceof Error) return error.message;
   try {
     return JSON.stringify(error);
   } catch {
     return String(error);
   }
+}
+
+/** The kind of a command's error; `invalid` for anything that is not an AppError. */
+export function errorKind(error: unknown): ErrorKind {
+  return isAppError(error) ? error.kind : "invalid";
 }
 
 async function call<T>(command: string, args?: Record<string, unknown>): Promise<T> {

@@ -2,6 +2,7 @@
 //! measuring a profile from the files (a job), and saving it to the
 //! singer's history.
 
+use crate::error::AppError;
 use ambit::library::{RecordingInput, today};
 use ambit::usecases::audition::{measure_audition, store_audition};
 use ambit::usecases::{Cancel, Quiet};
@@ -70,7 +71,7 @@ pub fn recording_start<R: Runtime>(
     app: AppHandle<R>,
     state: State<'_, AppState>,
     task: Task,
-) -> Result<(), String> {
+) -> Result<(), AppError> {
     let mut recording = lock(&state.recording);
     if recording.is_some() {
         return Err("a recording is already running; stop it first".into());
@@ -81,7 +82,7 @@ pub fn recording_start<R: Runtime>(
 }
 
 #[tauri::command(async)]
-pub fn recording_stop(state: State<'_, AppState>) -> Result<Recorded, String> {
+pub fn recording_stop(state: State<'_, AppState>) -> Result<Recorded, AppError> {
     let recording = lock(&state.recording)
         .take()
         .ok_or_else(|| "no recording is running".to_string())?;
@@ -102,7 +103,7 @@ pub fn audition_analyse<R: Runtime>(
     state: State<'_, AppState>,
     singer: String,
     files: Vec<AuditionFile>,
-) -> Result<u64, String> {
+) -> Result<u64, AppError> {
     state.jobs.spawn(&app, move |job| {
         let measured = measure_audition(
             &files,
@@ -131,7 +132,7 @@ pub fn audition_save(
     singer: String,
     files: Vec<AuditionFile>,
     date: Option<String>,
-) -> Result<i64, String> {
+) -> Result<i64, AppError> {
     let cached = lock(&state.last_profile)
         .as_ref()
         .filter(|(name, cached_files, _)| name == &singer && cached_files == &files)

@@ -1,6 +1,7 @@
 //! Library commands: what is open, open another, create an empty one, go
 //! back to the demo library.
 
+use crate::error::AppError;
 use std::path::PathBuf;
 
 use ambit::library::Library;
@@ -25,7 +26,7 @@ pub struct LibraryInfoView {
     pub is_demo: bool,
 }
 
-pub fn info_of(state: &AppState) -> Result<LibraryInfoView, String> {
+pub fn info_of(state: &AppState) -> Result<LibraryInfoView, AppError> {
     state.with_library_flag(|library, is_demo| {
         let info = library.info()?;
         Ok(LibraryInfoView {
@@ -51,7 +52,7 @@ pub fn library_status(state: State<'_, AppState>) -> LibraryStatus {
 }
 
 #[tauri::command]
-pub fn library_info(state: State<'_, AppState>) -> Result<LibraryInfoView, String> {
+pub fn library_info(state: State<'_, AppState>) -> Result<LibraryInfoView, AppError> {
     info_of(&state)
 }
 
@@ -59,7 +60,7 @@ pub fn library_info(state: State<'_, AppState>) -> Result<LibraryInfoView, Strin
 pub fn library_open(
     state: State<'_, AppState>,
     folder: PathBuf,
-) -> Result<LibraryInfoView, String> {
+) -> Result<LibraryInfoView, AppError> {
     state.refuse_while_preparing()?;
     let library = Library::open(&folder).map_err(super::text)?;
     state.replace_library(library, false);
@@ -70,7 +71,7 @@ pub fn library_open(
 pub fn library_create_empty(
     state: State<'_, AppState>,
     folder: PathBuf,
-) -> Result<LibraryInfoView, String> {
+) -> Result<LibraryInfoView, AppError> {
     state.refuse_while_preparing()?;
     let library = Library::create(&folder).map_err(super::text)?;
     state.replace_library(library, false);
@@ -84,7 +85,7 @@ pub fn library_create_empty(
 pub fn library_open_demo<R: Runtime>(
     app: AppHandle<R>,
     state: State<'_, AppState>,
-) -> Result<LibraryStatus, String> {
+) -> Result<LibraryStatus, AppError> {
     state.open_or_prepare(&app, state.demo_folder()?);
     Ok(state.status())
 }

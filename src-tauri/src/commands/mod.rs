@@ -1,6 +1,6 @@
 //! The Tauri commands, one file per screen group (see docs/APP-API.md).
 //! Each command parses its arguments, calls the engine or the library, and
-//! returns plain data; errors are the engine's messages as they are.
+//! returns plain data; errors are [`AppError`]: a kind and the engine's message.
 
 pub mod audition;
 pub mod library;
@@ -8,7 +8,9 @@ pub mod pieces;
 pub mod planning;
 pub mod singers;
 
-/// An error as the string the UI shows.
-pub(crate) fn text(error: impl std::fmt::Display) -> String {
-    error.to_string()
+pub use crate::error::AppError;
+
+/// An error as the UI receives it, with the engine's kind where it has one.
+pub(crate) fn text(error: impl Into<AppError>) -> AppError {
+    error.into()
 }

@@ -2,6 +2,7 @@
 //! analysis), the per-part view as `ambit parts --json`, the section
 //! mapping with the director's overrides, notation excerpts.
 
+use crate::error::AppError;
 use std::collections::BTreeMap;
 use std::path::PathBuf;
 
@@ -25,7 +26,7 @@ pub struct PieceRow {
 }
 
 #[tauri::command]
-pub fn pieces_list(state: State<'_, AppState>) -> Result<Vec<PieceRow>, String> {
+pub fn pieces_list(state: State<'_, AppState>) -> Result<Vec<PieceRow>, AppError> {
     state.with_library(|library| {
         let mut rows = Vec::new();
         for piece in library.pieces()? {
@@ -51,7 +52,7 @@ pub fn piece_import(
     state: State<'_, AppState>,
     path: PathBuf,
     layout: Option<String>,
-) -> Result<PieceView, String> {
+) -> Result<PieceView, AppError> {
     let options = ImportOptions {
         mapping: layout.map(|layout| MappingChoice {
             layout: Some(layout),
@@ -71,7 +72,7 @@ pub fn piece_analysis(
     state: State<'_, AppState>,
     title: String,
     layout: Option<String>,
-) -> Result<PieceView, String> {
+) -> Result<PieceView, AppError> {
     state.using(|library| stored_view(library, &title, layout).map_err(text))
 }
 
@@ -83,7 +84,7 @@ pub fn piece_set_mapping(
     title: String,
     overrides: BTreeMap<String, Option<String>>,
     layout: Option<String>,
-) -> Result<PieceView, String> {
+) -> Result<PieceView, AppError> {
     state.using(|library| set_mapping(library, &title, overrides, layout).map_err(text))
 }
 
@@ -96,7 +97,7 @@ pub fn notation_excerpt(
     part: String,
     first_bar: serde_json::Value,
     last_bar: serde_json::Value,
-) -> Result<String, String> {
+) -> Result<String, AppError> {
     // Printed bar numbers are text in MusicXML ("12", "12a"); the UI may send numbers.
     let bar = |value: &serde_json::Value| match value {
         serde_json::Value::String(text) => text.clone(),

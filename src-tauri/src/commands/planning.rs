@@ -2,6 +2,7 @@
 //! matrix, the optimal placement (a job), what-if moves, saved scenarios,
 //! the key sweep, and the cautions.
 
+use crate::error::AppError;
 use std::collections::BTreeMap;
 use std::path::PathBuf;
 
@@ -28,7 +29,7 @@ pub fn fit_matrix(
     pieces: Vec<String>,
     layout: String,
     by: String,
-) -> Result<FitMatrixView, String> {
+) -> Result<FitMatrixView, AppError> {
     let (roster, left_out, programme) =
         state.using(|library| roster_and_pieces(library, &pieces).map_err(text))?;
     match by.as_str() {
@@ -37,9 +38,9 @@ pub fn fit_matrix(
             let layout = Layout::parse(&layout).map_err(text)?;
             fit_by_section(&roster, &left_out, &programme, &layout).map_err(text)
         }
-        other => Err(format!(
+        other => Err(AppError::invalid(format!(
             "by must be \"part\" or \"section\", not \"{other}\""
-        )),
+        ))),
     }
 }
 
@@ -57,13 +58,13 @@ pub struct ConstraintsInput {
     pub exclusions: Vec<(String, String)>,
 }
 
-pub fn plan_constraints(input: &ConstraintsInput) -> Result<PlanConstraints, String> {
+pub fn plan_constraints(input: &ConstraintsInput) -> Result<PlanConstraints, AppError> {
     let mut sizes = Vec::new();
     for (section, (min, max)) in &input.sizes {
         if min > max {
-            return Err(format!(
+            return Err(AppError::invalid(format!(
                 "size of {section}: the minimum {min} is above the maximum {max}"
-            ));
+            )));
         }
         sizes.push((
             section.clone(),
@@ -94,7 +95,7 @@ pub fn place_solve<R: Runtime>(
     sizes: Option<BTreeMap<String, (usize, usize)>>,
     locks: Option<BTreeMap<String, String>>,
     exclusions: Option<Vec<(String, String)>>,
-) -> Result<u64, String> {
+) -> Result<u64, AppError> {
     let (roster, left_out, programme) =
         state.using(|library| roster_and_pieces(library, &pieces).map_err(text))?;
     let constraints = plan_constraints(&ConstraintsInput {
@@ -128,7 +129,7 @@ pub fn place_move(
     state: State<'_, AppState>,
     name: String,
     section: String,
-) -> Result<MoveView, String> {
+) -> Result<MoveView, AppError> {
     let mut guard = lock(&state.placement);
     let session = guard
         .as_mut()
@@ -138,7 +139,7 @@ pub fn place_move(
 
 /// Takes back the last move; `null` when there is nothing to undo.
 #[tauri::command]
-pub fn place_undo(state: State<'_, AppState>) -> Result<Option<PlacementView>, String> {
+pub fn place_undo(state: State<'_, AppState>) -> Result<Option<PlacementView>, AppError> {
     let mut guard = lock(&state.placement);
     let session = guard
         .as_mut()
@@ -148,7 +149,7 @@ pub fn place_undo(state: State<'_, AppState>) -> Result<Option<PlacementView>, S
 
 /// Makes the last undone move again; `null` when there is nothing to redo.
 #[tauri::command]
-pub fn place_redo(state: State<'_, AppState>) -> Result<Option<PlacementView>, String> {
+pub fn place_redo(state: State<'_, AppState>) -> Result<Option<PlacementView>, AppError> {
     let mut guard = lock(&state.placement);
     let session = guard
         .as_mut()
@@ -160,7 +161,7 @@ pub fn place_redo(state: State<'_, AppState>) -> Result<Option<PlacementView>, S
 /// since) as CSV (`ambit::views::seating_to_csv`), whole or not at all.
 /// Returns the number of singers written.
 #[tauri::command]
-pub fn seating_export(state: State<'_, AppState>, path: PathBuf) -> Result<usize, String> {
+pub fn seating_export(state: State<'_, AppState>, path: PathBuf) -> Result<usize, AppError> {
     let (csv, rows) = {
         let guard = lock(&state.placement);
         let session = guard
@@ -182,7 +183,7 @@ pub fn scenario_save(
     notes: Option<String>,
     result: serde_json::Value,
     constraints: Option<serde_json::Value>,
-) -> Result<i64, String> {
+) -> Result<i64, AppError> {
     if name.trim().is_empty() {
         return Err("a scenario needs a name".into());
     }
@@ -211,7 +212,7 @@ pub struct ScenarioRow {
 }
 
 #[tauri::command]
-pub fn scenarios_list(state: State<'_, AppState>) -> Result<Vec<ScenarioRow>, String> {
+pub fn scenarios_list(state: State<'_, AppState>) -> Result<Vec<ScenarioRow>, AppError> {
     state.with_library(|library| {
         Ok(library
             .scenarios()?
@@ -236,7 +237,7 @@ pub fn scenarios_list(state: State<'_, AppState>) -> Result<Vec<ScenarioRow>, St
 pub fn transpose_advice(
     state: State<'_, AppState>,
     title: String,
-) -> Result<serde_json::Value, String> {
+) -> Result<serde_json::Value, AppError> {
     let (roster, _, programme) = state
         .using(|library| roster_and_pieces(library, std::slice::from_ref(&title)).map_err(text))?;
     let piece = programme

@@ -2,6 +2,7 @@
 //! removes the recordings), roster CSV import and export, and a singer's
 //! history of measured profiles.
 
+use crate::error::AppError;
 use std::collections::BTreeSet;
 use std::path::{Path, PathBuf};
 
@@ -77,7 +78,7 @@ pub fn singer_row(record: &SingerRecord) -> SingerRow {
 pub fn singers_list(
     state: State<'_, AppState>,
     include_archived: Option<bool>,
-) -> Result<Vec<SingerRow>, String> {
+) -> Result<Vec<SingerRow>, AppError> {
     state.with_library(|library| {
         Ok(library
             .singers(include_archived.unwrap_or(false))?
@@ -115,7 +116,7 @@ fn csv_field(value: &str) -> String {
 
 /// The typed row through the one roster parser, so a typed singer is
 /// checked exactly like a roster file's row.
-pub fn typed_roster(row: &TypedRow) -> Result<Roster, String> {
+pub fn typed_roster(row: &TypedRow) -> Result<Roster, AppError> {
     let optional = |value: &Option<String>| value.clone().unwrap_or_default();
     let fields = [
         row.name.clone(),
@@ -138,7 +139,7 @@ pub fn typed_roster(row: &TypedRow) -> Result<Roster, String> {
 }
 
 #[tauri::command]
-pub fn singer_add_typed(state: State<'_, AppState>, row: TypedRow) -> Result<SingerRow, String> {
+pub fn singer_add_typed(state: State<'_, AppState>, row: TypedRow) -> Result<SingerRow, AppError> {
     let roster = typed_roster(&row)?;
     state.with_library(|library| {
         library.import_roster(&roster)?;
@@ -160,7 +161,7 @@ pub fn singer_set_archived(
     state: State<'_, AppState>,
     name: String,
     archived: bool,
-) -> Result<(), String> {
+) -> Result<(), AppError> {
     state.with_library(|library| library.set_archived(&name, archived))
 }
 
@@ -184,7 +185,7 @@ fn files_in(folder: &Path) -> BTreeSet<PathBuf> {
 /// Deletes the singer and every recording only they used; returns the
 /// files that are gone from disk.
 #[tauri::command]
-pub fn singer_delete(state: State<'_, AppState>, name: String) -> Result<Deleted, String> {
+pub fn singer_delete(state: State<'_, AppState>, name: String) -> Result<Deleted, AppError> {
     state.with_library(|library| {
         let recordings = library.folder().join(RECORDINGS_DIR);
         let before = files_in(&recordings);
@@ -222,7 +223,7 @@ fn import_view(plan: ImportPlan) -> ImportView {
 pub fn roster_import_preview(
     state: State<'_, AppState>,
     path: PathBuf,
-) -> Result<ImportView, String> {
+) -> Result<ImportView, AppError> {
     state.with_library(|library| library.import_roster_file(&path, true).map(import_view))
 }
 
@@ -230,12 +231,12 @@ pub fn roster_import_preview(
 pub fn roster_import_commit(
     state: State<'_, AppState>,
     path: PathBuf,
-) -> Result<ImportView, String> {
+) -> Result<ImportView, AppError> {
     state.with_library(|library| library.import_roster_file(&path, false).map(import_view))
 }
 
 #[tauri::command(async)]
-pub fn roster_export(state: State<'_, AppState>, path: PathBuf) -> Result<(), String> {
+pub fn roster_export(state: State<'_, AppState>, path: PathBuf) -> Result<(), AppError> {
     let (roster, _) = state.with_library(|library| library.roster())?;
     let csv = roster_to_csv(&roster).map_err(|error| format!("{}: {error}", path.display()))?;
     ambit::report::write_atomically(&path, csv.as_bytes()).map_err(super::text)
@@ -251,7 +252,7 @@ pub struct HistoryPoint {
 pub fn singer_history(
     state: State<'_, AppState>,
     name: String,
-) -> Result<Vec<HistoryPoint>, String> {
+) -> Result<Vec<HistoryPoint>, AppError> {
     state.with_library(|library| {
         Ok(library
             .history(&name)?

@@ -37,7 +37,17 @@ impl TestApp {
         }
     }
 
+    /// Calls a command; an error is its message.
     pub fn call(&self, command: &str, arguments: Value) -> Result<Value, String> {
+        self.call_typed(command, arguments).map_err(|error| {
+            error["message"]
+                .as_str()
+                .map_or_else(|| error.to_string(), str::to_string)
+        })
+    }
+
+    /// Calls a command; an error is the whole `{ kind, message }` object.
+    pub fn call_typed(&self, command: &str, arguments: Value) -> Result<Value, Value> {
         tauri::test::get_ipc_response(
             &self.window,
             InvokeRequest {
@@ -52,10 +62,6 @@ impl TestApp {
             },
         )
         .map(|body| body.deserialize::<Value>().expect("JSON"))
-        .map_err(|error| match error {
-            Value::String(message) => message,
-            other => other.to_string(),
-        })
     }
 
     pub fn ok(&self, command: &str, arguments: Value) -> Value {

@@ -251,7 +251,7 @@ function startJob(work: () => unknown, steps: string[]): number {
     try {
       emit("job-done", { job, result: structuredClone(work()) });
     } catch (error) {
-      emit("job-done", { job, error: String(error) });
+      emit("job-done", { job, error: { kind: "invalid", message: String(error) } });
     }
   })();
   return job;
