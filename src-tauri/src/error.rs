@@ -88,3 +88,22 @@ through_use_case!(
     ambit::plan::ProgrammeError,
     ambit::placement::PlacementError,
 );
+
+/// Errors whose kind is fixed: wrong input, or a file that could not be
+/// written.
+macro_rules! of_kind {
+    ($kind:expr => $($error:ty),* $(,)?) => {$(
+        impl From<$error> for AppError {
+            fn from(error: $error) -> AppError {
+                AppError::new($kind, error.to_string())
+            }
+        }
+    )*};
+}
+
+of_kind!(ErrorKind::Invalid =>
+    serde_json::Error,
+    ambit::roster::RosterError,
+    ambit::transpose::TransposeError,
+);
+of_kind!(ErrorKind::Storage => ambit::report::ReportError);

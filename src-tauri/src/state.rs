@@ -88,9 +88,12 @@ impl AppState {
     }
 
     pub fn demo_folder(&self) -> Result<PathBuf, AppError> {
-        lock(&self.demo_folder)
-            .clone()
-            .ok_or_else(|| "the app has no data folder for the demo library".to_string())
+        lock(&self.demo_folder).clone().ok_or_else(|| {
+            AppError::new(
+                ErrorKind::NotFound,
+                "the app has no data folder for the demo library",
+            )
+        })
     }
 
     /// Where the library stands now.
@@ -110,7 +113,7 @@ impl AppState {
             Some(folder) => self.open_or_prepare(app, PathBuf::from(folder)),
             None => match self.demo_folder() {
                 Ok(folder) => self.open_or_prepare(app, folder),
-                Err(error) => self.fail(app, error),
+                Err(error) => self.fail(app, error.message),
             },
         }
     }

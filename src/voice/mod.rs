@@ -28,13 +28,12 @@ use thiserror::Error;
 
 use crate::audio::{self, DecodeOptions};
 use crate::cautions::cautions;
-use crate::pitch::{Tuning, hz_to_midi, nearest_name};
+use crate::pitch::{Tuning, nearest_name};
 use crate::track::{self, Track, TrackConfig};
 
-use notes::{SegmentConfig, SungNote, segment_notes};
-use registers::{BreakConfig, Register, RegisterBounds, find_breaks, group_breaks, note_register};
-use timbre::{SpectralMeasures, SpectrumAnalyser, median_measures};
-use types::{Evidence, VoiceType, classify, rank_sections};
+use notes::SegmentConfig;
+use registers::{BreakConfig, Register};
+use timbre::SpectralMeasures;
 
 /// Sample rate recordings are analysed at.
 pub const PROFILE_SAMPLE_RATE: u32 = audio::ANALYSIS_SAMPLE_RATE;
@@ -500,6 +499,7 @@ pub fn profile(recordings: &[Recording], config: &ProfileConfig) -> Result<Profi
 #[cfg(test)]
 mod tests {
     use super::*;
+    use crate::pitch::hz_to_midi;
     use crate::track::Frame;
 
     const HOP: f64 = 0.01;

@@ -189,6 +189,7 @@ pub(super) fn measure_range(
         .filter(|note| note.seconds() >= config.sustain_min_seconds)
         .collect();
     let mut confidence = 0.9;
+    let mut fallback = None;
     if held.is_empty() {
         held = sung_notes
             .iter()
@@ -197,30 +198,31 @@ pub(super) fn measure_range(
             .collect();
         confidence = 0.5;
         if !held.is_empty() {
-            intake.warnings.push(format!(
+            fallback = Some(format!(
                 "no note was held for {:.1} s; the range comes from notes held at least 0.5 s",
                 config.sustain_min_seconds
             ));
         }
     }
-    let (low, high) = held
-        .iter()
-        .fold(None, |span: Option<(f64, f64)>, note| {
-            Some(span.map_or((note.midi, note.midi), |(l, h)| (l.min(note.midi), h.max(note.midi))))
-        })
-        .ok_or_else(|| {
-            // Say why, per file and task: the warnings gathered so far name
-            // recordings with no voice, or speech where singing was asked.
-            let why = if intake.warnings.is_empty() {
-                String::new()
-            } else {
-                format!(" ({})", intake.warnings.join("; "))
-            };
-            VoiceError::NoSinging(format!(
-                "no held sung note was found in {}; the singer needs to hold notes (sustain, scale or song tasks){why}",
-                intake.files.join(", ")
-            ))
-        })?;
+    let span = held.iter().fold(None, |span: Option<(f64, f64)>, note| {
+        Some(span.map_or((note.midi, note.midi), |(l, h)| {
+            (l.min(note.midi), h.max(note.midi))
+        }))
+    });
+    intake.warnings.extend(fallback);
+    let (low, high) = span.ok_or_else(|| {
+        // Say why, per file and task: the warnings gathered so far name
+        // recordings with no voice, or speech where singing was asked.
+        let why = if intake.warnings.is_empty() {
+            String::new()
+        } else {
+            format!(" ({})", intake.warnings.join("; "))
+        };
+        VoiceError::NoSinging(format!(
+            "no held sung note was found in {}; the singer needs to hold notes (sustain, scale or song tasks){why}",
+            intake.files.join(", ")
+        ))
+    })?;
     Ok(RangeStage {
         range: PitchSpan::new(low, high),
         confidence,

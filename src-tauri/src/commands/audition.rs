@@ -85,8 +85,8 @@ pub fn recording_start<R: Runtime>(
 pub fn recording_stop(state: State<'_, AppState>) -> Result<Recorded, AppError> {
     let recording = lock(&state.recording)
         .take()
-        .ok_or_else(|| "no recording is running".to_string())?;
-    recording.stop()
+        .ok_or_else(|| AppError::invalid("no recording is running"))?;
+    Ok(recording.stop()?)
 }
 
 /// The profile as `ambit profile --json`, with the cautions beside it.
