@@ -1,6 +1,10 @@
 //! Hostile input files against the `ambit` binary, each under a stated
 //! ceiling on the child's peak resident memory (read from the kernel with
 //! `wait4` when it exits; a benchmark-style bound, never a timing). Every
+//! measured test runs alone in a child of the test binary: a spawned child's
+//! `ru_maxrss` starts from its parent's high-water mark (the kernel records
+//! the old address space's peak at exec), and the parent here is a test
+//! binary whose other tests may have held hundreds of MiB. Every
 //! file is generated here, sparse where it is large; none is committed.
 //!
 //! The cases are those of issue 17, where the same files took gigabytes:
@@ -58,6 +62,11 @@ fn text(path: &Path) -> &str {
 
 #[test]
 fn entities_hidden_between_processing_instructions_are_refused_in_little_memory() {
+    if !common::in_own_process(
+        "input_bounds::entities_hidden_between_processing_instructions_are_refused_in_little_memory",
+    ) {
+        return;
+    }
     // A billion-laughs chain (ten levels of ten references: 10^10 bytes
     // when expanded) between two processing instructions whose quotes pair
     // up, padded to 1 MB with a comment.
@@ -88,6 +97,11 @@ fn entities_hidden_between_processing_instructions_are_refused_in_little_memory(
 
 #[test]
 fn a_device_that_never_ends_is_refused_as_a_score_at_the_byte_budget() {
+    if !common::in_own_process(
+        "input_bounds::a_device_that_never_ends_is_refused_as_a_score_at_the_byte_budget",
+    ) {
+        return;
+    }
     // /dev/zero reports a length of 0 and never ends; the score budget is
     // 64 MiB (ambit::score::MAX_SCORE_BYTES), so the reader holds at most
     // that much before refusing.
@@ -108,6 +122,9 @@ fn a_device_that_never_ends_is_refused_as_a_roster() {
 
 #[test]
 fn a_million_midi_tracks_are_refused_at_the_track_cap() {
+    if !common::in_own_process("input_bounds::a_million_midi_tracks_are_refused_at_the_track_cap") {
+        return;
+    }
     // The header declares 65 535 tracks (the most it can); the file holds a
     // million empty ones (12 MB): each chunk is MTrk, length 4, End of Track.
     let mut bytes = b"MThd\0\0\0\x06\0\x01\xff\xff\x01\xe0".to_vec();
@@ -154,6 +171,11 @@ fn sparse_wav(path: &Path, seconds: u64) {
 
 #[test]
 fn a_twelve_hour_wav_is_refused_from_its_header_by_track_and_profile() {
+    if !common::in_own_process(
+        "input_bounds::a_twelve_hour_wav_is_refused_from_its_header_by_track_and_profile",
+    ) {
+        return;
+    }
     let directory = tempfile::tempdir().expect("temp dir");
     let path = directory.path().join("twelve-hours.wav");
     sparse_wav(&path, 12 * 3600);
@@ -261,6 +283,11 @@ fn constant_flac(seconds: u64) -> Vec<u8> {
 
 #[test]
 fn a_ten_hour_flac_of_unknown_length_is_refused_as_decoding_passes_the_task_limit() {
+    if !common::in_own_process(
+        "input_bounds::a_ten_hour_flac_of_unknown_length_is_refused_as_decoding_passes_the_task_limit",
+    ) {
+        return;
+    }
     let directory = tempfile::tempdir().expect("temp dir");
     let path = directory.path().join("ten-hours.flac");
     let flac = constant_flac(10 * 3600);

@@ -161,7 +161,10 @@ pub struct MeasuredRun {
 /// Runs the `ambit` binary and reads its own peak resident memory from the
 /// kernel when it exits (`wait4`'s `rusage` covers that child alone, unlike
 /// `getrusage(RUSAGE_CHILDREN)`, which would mix in the children of tests
-/// running alongside). A benchmark-style bound, not a timing.
+/// running alongside). A benchmark-style bound, not a timing. The figure
+/// starts from this process's own high-water mark (the kernel records the
+/// old address space's peak at exec), so callers run alone in a fresh test
+/// process (`in_own_process`) where that mark is a few MiB.
 #[cfg(target_os = "linux")]
 pub fn run_ambit_measured(arguments: &[&str]) -> MeasuredRun {
     use std::io::Read;
